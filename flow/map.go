@@ -56,7 +56,7 @@ func (r Role) OneBody() bool { return r == CrystalField || r == Field }
 // Compact is a compactified coordinate u(x) for one sign of infinity of a
 // coupling: u → 0⁺ as x → ±∞ and u > 0 for finite x on that side.
 type Compact struct {
-	Name string                // e.g. "exp(-2K)"
+	Name string                  // e.g. "exp(-2K)"
 	U    func(x float64) float64 // x → u
 	X    func(u float64) float64 // u → x, the inverse of U
 	// Residual names the symmetry left when this coupling sits at this
