@@ -163,6 +163,7 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 				continue
 			}
 			out.Stats.Converged++
+			c.snap(&r, s)
 			dup := false
 			for _, p := range local {
 				if sameY(p.res.y, r.y) || (p.fam != nil && onFamily(p.fam, p.res.y, r.y)) {
@@ -201,6 +202,26 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 	}
 	out.Stats.Runtime = time.Since(t0)
 	return out, nil
+}
+
+// snap sets coordinates within 1e-12 of 0 to exactly 0 when the point
+// stays fixed, so that symmetric points are recognised as such.
+func (c *chart) snap(r *newtonResult, s *FindSettings) {
+	y := append([]float64(nil), r.y...)
+	changed := false
+	for _, i := range c.free {
+		if y[i] != 0 && math.Abs(y[i]) < 1e-12 {
+			y[i] = 0
+			changed = true
+		}
+	}
+	if !changed {
+		return
+	}
+	fy := make([]float64, len(y))
+	if res := c.residual(fy, y); res <= math.Max(r.residual, s.Tol*(1+supNorm(y, c.free))) {
+		r.y, r.residual = y, res
+	}
 }
 
 func clamp(v, lo, hi float64) float64 { return math.Max(lo, math.Min(hi, v)) }
@@ -659,6 +680,9 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 	}
 	if fp.Discontinuity {
 		fp.Notes = append(fp.Notes, "discontinuity fixed point: y_h = d at zero temperature, a first-order transition in the field")
+	}
+	if !math.IsNaN(yh) && yh <= 0 && fp.Kind != Sink {
+		fp.Notes = append(fp.Notes, "y_h <= 0: the model's symmetry-breaking couplings are irrelevant here, and exponents from y_h refer to them (an antiferromagnet's order parameter couples to a staggered field the model lacks)")
 	}
 	if fp.ZeroTemperature && fp.Kind == Critical {
 		fp.Notes = append(fp.Notes, "zero-temperature critical point: T_c = 0")

@@ -1,0 +1,229 @@
+package cli
+
+import (
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/pflag"
+
+	"scalewalk/decimation"
+	"scalewalk/flow"
+	"scalewalk/internal/report"
+)
+
+const (
+	defaultModel  = "ising"
+	defaultScheme = "chain"
+)
+
+// options are the flags shared by the commands that build a map.
+type options struct {
+	model, scheme string
+	set           []string
+	json, csv     bool
+}
+
+func (o *options) addModelFlags(fs *pflag.FlagSet) {
+	fs.StringVar(&o.model, "model", defaultModel, "spin model: "+strings.Join(modelNames(), ", "))
+	fs.StringVar(&o.scheme, "scheme", defaultScheme, "RG scheme: "+strings.Join(schemeNames(), ", "))
+	fs.StringArrayVar(&o.set, "set", nil, "a model or scheme parameter, NAME=VALUE (repeatable; one per --set; see 'scalewalk list')")
+}
+
+func (o *options) addFormatFlags(fs *pflag.FlagSet) {
+	fs.BoolVar(&o.json, "json", false, "write JSON instead of a table")
+	fs.BoolVar(&o.csv, "csv", false, "write CSV instead of a table")
+}
+
+func (o *options) checkFormat() error {
+	if o.json && o.csv {
+		return usagef("--json and --csv exclude each other: choose one")
+	}
+	return nil
+}
+
+func modelNames() []string {
+	var out []string
+	for _, m := range decimation.Models() {
+		out = append(out, m.Name)
+	}
+	return out
+}
+
+func schemeNames() []string {
+	var out []string
+	for _, s := range decimation.Schemes() {
+		out = append(out, s.Name)
+	}
+	return out
+}
+
+// built is a map with what the reports need to know about it.
+type built struct {
+	m    flow.Map
+	meta report.Meta
+}
+
+// build resolves the model, scheme and parameters into a map.
+func (o *options) build() (*built, error) {
+	ms, err := decimation.LookupModel(o.model)
+	if err != nil {
+		return nil, usagef("%v", err)
+	}
+	ss, err := decimation.LookupScheme(o.scheme)
+	if err != nil {
+		return nil, usagef("%v", err)
+	}
+	mset := map[string]string{}
+	sset := map[string]string{}
+	inModel := func(n string) bool { return hasParam(ms.Params, n) }
+	inScheme := func(n string) bool { return hasParam(ss.Params, n) }
+	// Couplings of the model, for a clear message when one is given to --set.
+	var couplings []string
+	if m, err := ms.New(defaultValues(ms.Params)); err == nil {
+		for _, c := range m.Couplings() {
+			couplings = append(couplings, c.Name)
+		}
+	}
+	for _, kv := range o.set {
+		name, val, ok := strings.Cut(kv, "=")
+		name = strings.TrimSpace(name)
+		if !ok || name == "" {
+			return nil, usagef("--set %q: expected NAME=VALUE, e.g. --set b=2", kv)
+		}
+		if strings.Contains(val, "=") {
+			return nil, usagef("--set %q: one NAME=VALUE per --set (repeat --set for more)", kv)
+		}
+		switch {
+		case inModel(name):
+			if _, dup := mset[name]; dup {
+				return nil, usagef("--set %s given twice", name)
+			}
+			mset[name] = val
+		case inScheme(name):
+			if _, dup := sset[name]; dup {
+				return nil, usagef("--set %s given twice", name)
+			}
+			sset[name] = val
+		case contains(couplings, name):
+			return nil, usagef("--set %s: %s is a coupling of %s, not a parameter; give couplings with --from (e.g. --from %s=0.5)", kv, name, ms.Name, name)
+		default:
+			return nil, usagef("--set %s: no parameter %q for model %s with scheme %s; accepted: %s", kv, name, ms.Name, ss.Name, acceptedParams(ms, ss))
+		}
+	}
+	mv, err := decimation.Resolve(ms.Params, mset)
+	if err != nil {
+		return nil, usagef("model %s: %v", ms.Name, err)
+	}
+	sv, err := decimation.Resolve(ss.Params, sset)
+	if err != nil {
+		return nil, usagef("scheme %s: %v", ss.Name, err)
+	}
+	model, err := ms.New(mv)
+	if err != nil {
+		return nil, usagef("model %s: %v", ms.Name, err)
+	}
+	m, err := ss.Build(model, sv)
+	if err != nil {
+		return nil, usagef("scheme %s: %v", ss.Name, err)
+	}
+	params := map[string]any{}
+	for k, v := range mv {
+		params[k] = v
+	}
+	for k, v := range sv {
+		params[k] = v
+	}
+	return &built{m: m, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: params}}, nil
+}
+
+func hasParam(ps []decimation.Param, n string) bool {
+	for _, p := range ps {
+		if p.Name == n {
+			return true
+		}
+	}
+	return false
+}
+
+func contains(list []string, s string) bool {
+	for _, v := range list {
+		if v == s {
+			return true
+		}
+	}
+	return false
+}
+
+func defaultValues(ps []decimation.Param) decimation.Values {
+	v, err := decimation.Resolve(ps, nil)
+	if err != nil {
+		return decimation.Values{}
+	}
+	return v
+}
+
+func acceptedParams(ms decimation.ModelSpec, ss decimation.SchemeSpec) string {
+	var out []string
+	for _, p := range ms.Params {
+		out = append(out, p.Name+" ("+p.Range()+")")
+	}
+	for _, p := range ss.Params {
+		out = append(out, p.Name+" ("+p.Range()+")")
+	}
+	if len(out) == 0 {
+		return "none"
+	}
+	return strings.Join(out, ", ")
+}
+
+// parsePoint parses "K=0.8,h=0.1" into couplings of m (unnamed ones 0).
+func parsePoint(flag, s string, m flow.Map) ([]float64, error) {
+	names := flow.Names(m)
+	x := make([]float64, len(names))
+	if strings.TrimSpace(s) == "" {
+		return nil, usagef("%s is empty: expected NAME=VALUE[,NAME=VALUE...] over the couplings %s", flag, strings.Join(names, ", "))
+	}
+	seen := map[string]bool{}
+	for _, part := range strings.Split(s, ",") {
+		name, val, ok := strings.Cut(strings.TrimSpace(part), "=")
+		name = strings.TrimSpace(name)
+		if !ok || name == "" {
+			return nil, usagef("%s %q: %q is not NAME=VALUE; expected e.g. %s=0.5,%s over the couplings %s", flag, s, part, names[0], restExample(names), strings.Join(names, ", "))
+		}
+		i := flow.Index(m, name)
+		if i < 0 {
+			return nil, usagef("%s %q: no coupling %q; the couplings are %s (names are case-sensitive)", flag, s, name, strings.Join(names, ", "))
+		}
+		if seen[name] {
+			return nil, usagef("%s %q: coupling %s given twice", flag, s, name)
+		}
+		seen[name] = true
+		v, err := strconv.ParseFloat(strings.TrimSpace(val), 64)
+		if err != nil {
+			return nil, usagef("%s %q: %s=%q is not a number", flag, s, name, val)
+		}
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, usagef("%s %q: %s must be a finite number, not %s", flag, s, name, val)
+		}
+		x[i] = v
+	}
+	return x, nil
+}
+
+func restExample(names []string) string {
+	if len(names) > 1 {
+		return names[1] + "=0.1"
+	}
+	return ""
+}
+
+func sortedKeys(m map[string]string) []string {
+	var k []string
+	for n := range m {
+		k = append(k, n)
+	}
+	sort.Strings(k)
+	return k
+}
