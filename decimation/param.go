@@ -61,14 +61,14 @@ func (p Param) Range() string {
 		if p.MinOpen {
 			op = ">"
 		}
-		parts = append(parts, op+" "+strconv.FormatFloat(p.Min, 'g', -1, 64))
+		parts = append(parts, op+" "+numText(p.Min))
 	}
 	if !math.IsInf(p.Max, 1) {
 		op := "<="
 		if p.MaxOpen {
 			op = "<"
 		}
-		parts = append(parts, op+" "+strconv.FormatFloat(p.Max, 'g', -1, 64))
+		parts = append(parts, op+" "+numText(p.Max))
 	}
 	s := p.Kind.String()
 	if len(parts) > 0 {
@@ -207,4 +207,11 @@ func paramNames(params []Param) string {
 		n = append(n, p.Name)
 	}
 	return strings.Join(n, ", ")
+}
+
+func numText(v float64) string {
+	if v == math.Trunc(v) && math.Abs(v) < 1e15 {
+		return strconv.FormatFloat(v, 'f', -1, 64)
+	}
+	return strconv.FormatFloat(v, 'g', -1, 64)
 }

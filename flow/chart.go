@@ -121,8 +121,12 @@ func (c *chart) direct(dst, y []float64) {
 	c.toY(dst, xp)
 }
 
-// limitEps is the smallest compactified coordinate used to approach u = 0.
-const limitEps = 1e-12
+// limitEps is the smallest compactified coordinate used to approach u = 0;
+// limitEpsSafe is the fallback for maps that overflow that far out.
+const (
+	limitEps     = 1e-40
+	limitEpsSafe = 1e-12
+)
 
 // eval evaluates the map in chart coordinates. Face coordinates equal to 0
 // are approached from u > 0 and extrapolated to the limit (Richardson, the
@@ -142,12 +146,21 @@ func (c *chart) eval(dst, y []float64) float64 {
 	n := len(y)
 	yy := append([]float64(nil), y...)
 	var f [3][]float64
-	for k := 0; k < 3; k++ {
-		for _, i := range zero {
-			yy[i] = limitEps * float64(int(1)<<k)
+	for _, eps := range []float64{limitEps, limitEpsSafe} {
+		finite := true
+		for k := 0; k < 3; k++ {
+			for _, i := range zero {
+				yy[i] = eps * float64(int(1)<<k)
+			}
+			f[k] = make([]float64, n)
+			c.direct(f[k], yy)
+			for _, v := range f[k] {
+				finite = finite && !math.IsNaN(v) && !math.IsInf(v, 0)
+			}
 		}
-		f[k] = make([]float64, n)
-		c.direct(f[k], yy)
+		if finite {
+			break
+		}
 	}
 	var errMax float64
 	for i := 0; i < n; i++ {
@@ -161,4 +174,86 @@ func (c *chart) eval(dst, y []float64) float64 {
 		errMax = math.Max(errMax, e)
 	}
 	return errMax
+}
+
+// faceRatio returns max |u′ᵢ| / uᵢ over the face coordinates of y at 0,
+// evaluated at uᵢ = ε: bounded (|λ| of the face direction) when the map
+// keeps the face with a finite derivative, huge when it only keeps it in the
+// limit non-analytically (u′ ~ √u at a corner where limits do not commute).
+func (c *chart) faceRatio(y []float64) float64 {
+	n := len(y)
+	yy := append([]float64(nil), y...)
+	var zero []int
+	for _, i := range c.face {
+		if y[i] <= 0 {
+			zero = append(zero, i)
+		}
+	}
+	if len(zero) == 0 {
+		return 0
+	}
+	f := make([]float64, n)
+	var r float64
+	for _, eps := range []float64{limitEps, limitEpsSafe} {
+		for _, i := range zero {
+			yy[i] = eps
+		}
+		c.direct(f, yy)
+		r = 0
+		finite := true
+		for _, i := range zero {
+			v := math.Abs(f[i]) / eps
+			finite = finite && !math.IsNaN(v)
+			r = math.Max(r, v)
+		}
+		if finite {
+			return r
+		}
+	}
+	return math.Inf(1)
+}
+
+// pathIndependent reports whether the limit at a point with two or more
+// face coordinates at 0 is the same when they approach 0 at different
+// rates: at a corner where the limits do not commute (K → ∞ and D → ∞ with
+// K − D undetermined), the map's value depends on the path, and no fixed
+// point can be claimed there.
+func (c *chart) pathIndependent(y []float64) bool {
+	var zero []int
+	for _, i := range c.face {
+		if y[i] <= 0 {
+			zero = append(zero, i)
+		}
+	}
+	if len(zero) < 2 {
+		return true
+	}
+	n := len(y)
+	fa := make([]float64, n)
+	fb := make([]float64, n)
+	ya := append([]float64(nil), y...)
+	yb := append([]float64(nil), y...)
+	for k, i := range zero {
+		ya[i] = limitEps
+		// Rates differing by 10^10 between neighbouring coordinates.
+		yb[i] = limitEps * math.Pow(1e10, float64(k%2))
+		if k%2 == 0 && len(zero) > 2 {
+			yb[i] = limitEps * math.Pow(1e5, float64(k%3))
+		}
+	}
+	c.direct(fa, ya)
+	c.direct(fb, yb)
+	for i := 0; i < n; i++ {
+		if c.inf[i] != 0 && y[i] <= 0 {
+			// Face coordinates: both must stay at the face scale.
+			if math.Abs(fa[i]) > maxFaceRatio*ya[i] || math.Abs(fb[i]) > maxFaceRatio*yb[i] {
+				return false
+			}
+			continue
+		}
+		if !(math.Abs(fa[i]-fb[i]) <= 1e-6*(1+math.Abs(fa[i]))) {
+			return false
+		}
+	}
+	return true
 }

@@ -6,8 +6,10 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"runtime"
 	"sort"
 	"strings"
+	"sync"
 	"time"
 
 	"gonum.org/v1/gonum/mat"
@@ -37,10 +39,13 @@ func (k Kind) String() string {
 	return "unknown"
 }
 
-// Family describes a connected set of fixed points along coordinate axes.
+// Family describes a connected set of fixed points: the couplings that vary
+// along it, their range, and the directions that span it at the
+// representative point.
 type Family struct {
-	Free  []int        // indices of the free couplings
+	Free  []int        // indices of the couplings that vary along the family
 	Range [][2]float64 // per free coupling, [lo, hi]; ±Inf where unbounded
+	Basis [][]float64  // orthonormal tangent directions in chart coordinates
 }
 
 // FixedPoint is a fixed point with its analysis.
@@ -77,7 +82,10 @@ type FindSettings struct {
 	Escape      float64   // a finite coordinate beyond this abandons the start; default 60
 	MarginalTol float64   // ||λ| − 1| below this is marginal; default 1e-6
 	Starts      []float64 // start values per coupling; default ±{0.1,0.3,0.7,1.5,3} and 0
-	MaxStarts   int       // starts per chart; default 160
+	MaxStarts   int       // starts per chart (a quarter on faces); default 160
+	// Concurrent is the number of charts searched at once; 0 means
+	// GOMAXPROCS. The map's Step must be safe for concurrent use.
+	Concurrent int
 }
 
 func (s *FindSettings) defaults() *FindSettings {
@@ -144,54 +152,46 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 	t0 := time.Now()
 	s = s.defaults()
 	out := &FindResult{}
+	cs := charts(m)
+	type chartOut struct {
+		pts               []found
+		starts, converged int
+	}
+	results := make([]chartOut, len(cs))
+	work := make(chan int)
+	var wg sync.WaitGroup
+	workers := s.Concurrent
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range work {
+				pts, st, cv := searchChart(ctx, cs[k], s)
+				results[k] = chartOut{pts, st, cv}
+			}
+		}()
+	}
+	for k := range cs {
+		if ctx.Err() != nil {
+			break
+		}
+		work <- k
+	}
+	close(work)
+	wg.Wait()
 	var pts []found
-	for _, c := range charts(m) {
-		if err := ctx.Err(); err != nil {
-			return out, ErrCanceled
-		}
-		out.Stats.Charts++
-		// A face the map does not keep (u′ ≠ 0 everywhere on a probe)
-		// holds no fixed point: skip it cheaply.
-		if len(c.face) > 0 && !c.faceMayHold(s) {
-			continue
-		}
-		var local []found
-		for _, y0 := range c.starts(s) {
-			out.Stats.Starts++
-			r := c.solve(y0, s)
-			if !r.ok || r.faceRes > 1e-8 || math.IsNaN(r.residual) {
-				continue
-			}
-			out.Stats.Converged++
-			c.snap(&r, s)
-			dup := false
-			for _, p := range local {
-				if sameY(p.res.y, r.y) || (p.fam != nil && onFamily(p.fam, p.res.y, r.y)) {
-					dup = true
-					break
-				}
-			}
-			if dup {
-				continue
-			}
-			f := found{c: c, res: r}
-			f.fam = c.family(r.y, s)
-			if f.fam != nil {
-				// Move to the representative and drop earlier members.
-				for k, j := range f.fam.Free {
-					f.res.y[j] = clamp(0, f.fam.Range[k][0], f.fam.Range[k][1])
-				}
-				var kept []found
-				for _, p := range local {
-					if !onFamily(f.fam, f.res.y, p.res.y) {
-						kept = append(kept, p)
-					}
-				}
-				local = kept
-			}
-			local = append(local, f)
-		}
-		pts = append(pts, local...)
+	for _, r := range results {
+		pts = append(pts, r.pts...)
+		out.Stats.Starts += r.starts
+		out.Stats.Converged += r.converged
+	}
+	out.Stats.Charts = len(cs)
+	if ctx.Err() != nil {
+		out.Stats.Runtime = time.Since(t0)
+		return out, ErrCanceled
 	}
 	pts = mergeFaceEnds(pts)
 	for _, p := range pts {
@@ -202,6 +202,59 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 	}
 	out.Stats.Runtime = time.Since(t0)
 	return out, nil
+}
+
+// searchChart runs every start of one chart and returns the distinct fixed
+// points (families once), with the counts of starts and converged solves.
+func searchChart(ctx context.Context, c *chart, s *FindSettings) ([]found, int, int) {
+	// A face the map does not keep (u′ ≠ 0 everywhere on a probe) holds no
+	// fixed point: skip it cheaply. Faces get fewer starts: they have
+	// fewer free coordinates and their evaluations cost more.
+	cs := *s
+	if len(c.face) > 0 {
+		if !c.faceMayHold(s) {
+			return nil, 0, 0
+		}
+		cs.MaxStarts = max(24, s.MaxStarts/4)
+	}
+	var local []found
+	starts, converged := 0, 0
+	for _, y0 := range c.starts(&cs) {
+		if ctx.Err() != nil {
+			break
+		}
+		starts++
+		r := c.solve(y0, s)
+		if !r.ok || r.faceRes > 1e-8 || math.IsNaN(r.residual) || r.limErr > 1e-7 || c.faceRatio(r.y) > maxFaceRatio || !c.pathIndependent(r.y) {
+			continue
+		}
+		converged++
+		c.snap(&r, s)
+		dup := false
+		for _, p := range local {
+			if sameY(p.res.y, r.y) || (p.fam != nil && onFamily(p.fam, p.res.y, r.y)) {
+				dup = true
+				break
+			}
+		}
+		if dup {
+			continue
+		}
+		f := found{c: c, res: r}
+		f.fam, f.res = c.family(r, s)
+		if f.fam != nil {
+			// Drop earlier members of the family.
+			var kept []found
+			for _, p := range local {
+				if !onFamily(f.fam, f.res.y, p.res.y) {
+					kept = append(kept, p)
+				}
+			}
+			local = kept
+		}
+		local = append(local, f)
+	}
+	return local, starts, converged
 }
 
 // snap sets coordinates within 1e-12 of 0 to exactly 0 when the point
@@ -235,24 +288,38 @@ func sameY(a, b []float64) bool {
 	return true
 }
 
-// onFamily reports whether y lies on the family through rep.
+// onFamily reports whether y lies on the family through rep: within its
+// range, and on the affine span of its tangent directions.
 func onFamily(f *Family, rep, y []float64) bool {
-	isFree := map[int]int{}
 	for k, j := range f.Free {
-		isFree[j] = k
-	}
-	for i := range y {
-		if k, ok := isFree[i]; ok {
-			if y[i] < f.Range[k][0]-1e-9 || y[i] > f.Range[k][1]+1e-9 {
-				return false
-			}
-			continue
+		if y[j] < f.Range[k][0]-1e-9*(1+math.Abs(f.Range[k][0])) || y[j] > f.Range[k][1]+1e-9*(1+math.Abs(f.Range[k][1])) {
+			return false
 		}
-		if math.Abs(y[i]-rep[i]) > 1e-6*(1+math.Abs(rep[i])) {
+	}
+	d := make([]float64, len(y))
+	for i := range y {
+		d[i] = y[i] - rep[i]
+	}
+	for _, v := range f.Basis {
+		p := dot(d, v)
+		for i := range d {
+			d[i] -= p * v[i]
+		}
+	}
+	for i := range d {
+		if math.Abs(d[i]) > 1e-6*(1+math.Abs(y[i])) {
 			return false
 		}
 	}
 	return true
+}
+
+func dot(a, b []float64) float64 {
+	var s float64
+	for i := range a {
+		s += a[i] * b[i]
+	}
+	return s
 }
 
 // mergeFaceEnds drops face points that are the ends at infinity of a family
@@ -278,18 +345,24 @@ func mergeFaceEnds(pts []found) []found {
 }
 
 // endOf reports whether the face point p is the end at infinity of the
-// family q.
+// family q: every coupling p has at an infinity where q has it finite is a
+// free coupling of q whose range reaches that infinity, and the other
+// couplings agree with q's representative.
 func endOf(q, p found) bool {
 	fk := map[int]int{}
 	for k, j := range q.fam.Free {
 		fk[j] = k
 	}
 	for i := range p.c.inf {
-		if p.c.inf[i] == q.c.inf[i] {
-			if p.c.inf[i] != 0 {
+		pi, qi := p.c.inf[i], q.c.inf[i]
+		if pi == qi {
+			if pi != 0 {
 				continue
 			}
-			if _, free := fk[i]; free {
+			if k, free := fk[i]; free {
+				if p.res.y[i] < q.fam.Range[k][0] || p.res.y[i] > q.fam.Range[k][1] {
+					return false
+				}
 				continue
 			}
 			if math.Abs(p.res.y[i]-q.res.y[i]) > 1e-6*(1+math.Abs(q.res.y[i])) {
@@ -297,16 +370,14 @@ func endOf(q, p found) bool {
 			}
 			continue
 		}
-		// p has coupling i at an infinity where q has it finite (or
-		// vice versa): it must be a free coupling of q running there.
 		k, free := fk[i]
-		if !free || q.c.inf[i] != 0 {
+		if !free || qi != 0 {
 			return false
 		}
-		if p.c.inf[i] > 0 && !math.IsInf(q.fam.Range[k][1], 1) {
+		if pi > 0 && !math.IsInf(q.fam.Range[k][1], 1) {
 			return false
 		}
-		if p.c.inf[i] < 0 && !math.IsInf(q.fam.Range[k][0], -1) {
+		if pi < 0 && !math.IsInf(q.fam.Range[k][0], -1) {
 			return false
 		}
 	}
@@ -415,62 +486,197 @@ func halton(i, base int) float64 {
 	return r
 }
 
-// family checks each free coordinate of the chart at a fixed point y: if
-// moving along it alone leaves a fixed point, it is a free direction, and
-// its range is found by walking outward and bisecting where the point stops
-// being fixed. It returns nil for an isolated point.
-func (c *chart) family(y []float64, s *FindSettings) *Family {
-	var fam *Family
+// family decides whether the fixed point r.y is isolated or lies on a
+// family: the null space of (J − I) over the chart's free coordinates gives
+// candidate directions; a direction is kept when Newton, started a small
+// step along it, converges to another fixed point there. Each kept direction
+// is walked both ways to find the family's range, and the representative is
+// moved to the family's point nearest the origin. It returns nil and r
+// unchanged for an isolated point.
+func (c *chart) family(r newtonResult, s *FindSettings) (*Family, newtonResult) {
+	y := r.y
 	n := len(y)
+	k := len(c.free)
+	if k == 0 {
+		return nil, r
+	}
+	jac := mat.NewDense(k, k, nil)
 	fy := make([]float64, n)
-	yy := append([]float64(nil), y...)
-	isFixed := func(v float64, i int) bool {
-		copy(yy, y)
-		yy[i] = v
-		return c.residual(fy, yy) <= s.LooseTol*(1+supNorm(yy, c.free))
+	c.eval(fy, y)
+	c.newtonJac(jac, y, fy)
+	var svd mat.SVD
+	if !svd.Factorize(jac, mat.SVDFull) {
+		return nil, r
+	}
+	vals := svd.Values(nil)
+	var v mat.Dense
+	svd.VTo(&v)
+	sub := *s
+	sub.MaxIter = 30
+	sub.Escape = 4 * walkLimit
+	var basis [][]float64
+	for q := k - 1; q >= 0; q-- {
+		if vals[q] > 1e-5*math.Max(1, vals[0]) {
+			break
+		}
+		dir := make([]float64, n)
+		for a, i := range c.free {
+			dir[i] = v.At(a, q)
+		}
+		if c.alongFamily(y, dir, 1e-3, &sub) && c.alongFamily(y, dir, -1e-3, &sub) {
+			basis = append(basis, dir)
+		}
+	}
+	if len(basis) == 0 {
+		return nil, r
+	}
+	fam := &Family{Basis: basis}
+	lo := make([]float64, n)
+	hi := make([]float64, n)
+	copy(lo, y)
+	copy(hi, y)
+	for _, dir := range basis {
+		for _, sign := range []float64{-1, 1} {
+			c.walk(y, dir, sign, &sub, lo, hi)
+		}
 	}
 	for _, i := range c.free {
-		d := 1e-3 * (1 + math.Abs(y[i]))
-		if !isFixed(y[i]+d, i) || !isFixed(y[i]-d, i) {
-			continue
+		moves := false
+		for _, dir := range basis {
+			moves = moves || math.Abs(dir[i]) > 1e-6
 		}
-		lo := c.walk(y[i], -1, i, isFixed)
-		hi := c.walk(y[i], 1, i, isFixed)
-		if fam == nil {
-			fam = &Family{}
+		if moves {
+			fam.Free = append(fam.Free, i)
+			fam.Range = append(fam.Range, [2]float64{lo[i], hi[i]})
 		}
-		fam.Free = append(fam.Free, i)
-		fam.Range = append(fam.Range, [2]float64{lo, hi})
 	}
-	return fam
+	// Representative: the point of the span nearest the origin, if it is
+	// a fixed point within the range.
+	rep := append([]float64(nil), y...)
+	for _, dir := range basis {
+		p := dot(rep, dir)
+		for i := range rep {
+			rep[i] -= p * dir[i]
+		}
+	}
+	for k, i := range fam.Free {
+		rep[i] = clamp(rep[i], fam.Range[k][0], fam.Range[k][1])
+	}
+	if res := c.residual(fy, rep); res <= s.LooseTol*(1+supNorm(rep, c.free)) {
+		for i := range rep {
+			if math.Abs(rep[i]) < 1e-12 {
+				rep[i] = 0
+			}
+		}
+		r.y = rep
+		r.residual = c.residual(fy, rep)
+	}
+	return fam, r
+}
+
+// alongFamily reports whether a Newton solve started at y + t·dir converges
+// to a fixed point near there (not back to y).
+func (c *chart) alongFamily(y, dir []float64, t float64, s *FindSettings) bool {
+	z, ok := c.correct(y, dir, t, s)
+	if !ok {
+		return false
+	}
+	var dist float64
+	for i := range z {
+		dist = math.Max(dist, math.Abs(z[i]-y[i]))
+	}
+	return dist > 0.5*math.Abs(t)*maxAbs(dir)
+}
+
+// correct returns the fixed point Newton reaches from y + t·dir, and
+// whether it stayed close to that prediction.
+func (c *chart) correct(y, dir []float64, t float64, s *FindSettings) ([]float64, bool) {
+	z0 := make([]float64, len(y))
+	for i := range y {
+		z0[i] = y[i] + t*dir[i]
+	}
+	r := c.solve(z0, s)
+	if !r.ok || r.faceRes > 1e-8 {
+		return nil, false
+	}
+	var dev float64
+	for i := range z0 {
+		dev = math.Max(dev, math.Abs(r.y[i]-z0[i]))
+	}
+	return r.y, dev <= 0.1*math.Abs(t)+1e-9
+}
+
+func maxAbs(v []float64) float64 {
+	var m float64
+	for _, x := range v {
+		m = math.Max(m, math.Abs(x))
+	}
+	return m
 }
 
 // walkLimit is where a walk along a family concludes that it runs to
 // infinity.
 const walkLimit = 500
 
-func (c *chart) walk(v0 float64, dir float64, i int, isFixed func(float64, int) bool) float64 {
-	prev := v0
-	step := 0.05
-	for {
-		v := prev + dir*step
-		if math.Abs(v) > walkLimit {
-			return math.Inf(int(dir))
+// maxFaceRatio bounds |u′|/u on a face that holds fixed points: the
+// eigenvalue of a face direction; larger means the face is kept only
+// non-analytically.
+const maxFaceRatio = 1e6
+
+// walkLimit is the walk's limit in this chart: on a face, half the
+// smallest coupling at which the limit u → 0 is evaluated, beyond which the
+// face is no longer resolved and the family is taken to run to infinity.
+func (c *chart) walkLimit() float64 {
+	l := float64(walkLimit)
+	for _, i := range c.face {
+		l = math.Min(l, 0.5*math.Abs(c.comp[i].X(limitEps)))
+	}
+	return l
+}
+
+// walk follows the family from y along sign·dir with doubling steps,
+// updating the per-coupling extremes lo and hi, until it leaves the family
+// (then bisects for the end) or passes walkLimit (the end is at infinity).
+func (c *chart) walk(y, dir []float64, sign float64, s *FindSettings, lo, hi []float64) {
+	limit := c.walkLimit()
+	prevT := 0.0
+	t := 0.05
+	record := func(z []float64) {
+		for i := range z {
+			lo[i] = math.Min(lo[i], z[i])
+			hi[i] = math.Max(hi[i], z[i])
 		}
-		if !isFixed(v, i) {
-			a, b := prev, v
-			for k := 0; k < 60 && math.Abs(a-b) > 1e-12*(1+math.Abs(a)); k++ {
+	}
+	for {
+		z, ok := c.correct(y, dir, sign*t, s)
+		if ok && maxAbs(z) > limit {
+			for i := range dir {
+				if math.Abs(dir[i]) > 1e-6 {
+					if dir[i]*sign > 0 {
+						hi[i] = math.Inf(1)
+					} else {
+						lo[i] = math.Inf(-1)
+					}
+				}
+			}
+			return
+		}
+		if !ok {
+			a, b := prevT, t
+			for k := 0; k < 50 && b-a > 1e-12*(1+a); k++ {
 				mid := (a + b) / 2
-				if isFixed(mid, i) {
+				if zz, ok := c.correct(y, dir, sign*mid, s); ok {
+					record(zz)
 					a = mid
 				} else {
 					b = mid
 				}
 			}
-			return a
+			return
 		}
-		prev = v
-		step *= 2
+		record(z)
+		prevT = t
+		t *= 2
 	}
 }
 
@@ -575,7 +781,7 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 	})
 	if fam != nil {
 		// The k directions nearest λ = 1 are along the family.
-		for range fam.Free {
+		for range fam.Basis {
 			best, bd := -1, math.Inf(1)
 			for k := range dirs {
 				if dirs[k].Free {

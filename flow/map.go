@@ -110,6 +110,8 @@ func (c Coupling) TwoSite() bool { return !c.Role.OneBody() }
 // lattice before the step (see the package conventions). It must not modify
 // x, and must fill every element of dst. Outside the map's domain (or where
 // the step overflows) it writes NaN. len(dst) == len(x) == len(Couplings()).
+// Step must be safe for concurrent use: the fixed-point search calls it from
+// several goroutines.
 type Map interface {
 	Couplings() []Coupling
 	Rescale() float64   // b > 1

@@ -11,6 +11,7 @@ type newtonResult struct {
 	y        []float64
 	residual float64 // ‖R(y) − y‖∞ over the free coordinates
 	faceRes  float64 // max |u′| over the face coordinates (0 when invariant)
+	limErr   float64 // error estimate of the limit evaluation at y (0 off faces)
 	iters    int
 	ok       bool
 }
@@ -178,6 +179,7 @@ func (c *chart) solve(y0 []float64, s *FindSettings) newtonResult {
 	}
 	out.y = y
 	out.residual = res
+	out.limErr = c.eval(fy, y)
 	out.faceRes = supNorm(fy, c.face)
 	return out
 }

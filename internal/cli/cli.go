@@ -84,7 +84,7 @@ before the step, so that ln Z/N = sum over n of b^(-d n) g(x_n).`,
 	}
 	root.CompletionOptions.DisableDefaultCmd = true
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
-		return usagef("%s: %v (see '%s --help')", c.CommandPath(), err, c.CommandPath())
+		return usagef("%v (see '%s --help')", err, c.CommandPath())
 	})
 	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr))
 	return root

@@ -1,0 +1,107 @@
+package decimation
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"scalewalk/flow"
+)
+
+// ModelSpec describes a spin model as data: its name, a one-line help, its
+// parameters and a constructor taking the resolved parameter values.
+type ModelSpec struct {
+	Name, Help string
+	Params     []Param
+	New        func(v Values) (*Model, error)
+}
+
+// SchemeSpec describes an RG scheme as data: its name, a one-line help,
+// its parameters and a builder of the map for a model.
+type SchemeSpec struct {
+	Name, Help string
+	Params     []Param
+	Build      func(m *Model, v Values) (flow.Map, error)
+}
+
+// MaxB is the largest rescaling factor the schemes accept.
+const MaxB = 1 << 20
+
+// Models returns the spin models, in a fixed order.
+func Models() []ModelSpec {
+	return []ModelSpec{
+		{
+			Name: "ising",
+			Help: "Ising model, -H/kT = K Σ s_i s_j + h Σ s_i with s = ±1; couplings K, h",
+			New:  func(Values) (*Model, error) { return NewIsing(), nil },
+		},
+		{
+			Name: "potts",
+			Help: "q-state Potts model, -H/kT = K Σ δ(σ_i,σ_j) + h Σ δ(σ_i,1) + Kfav Σ δ(σ_i,1)δ(σ_j,1); " +
+				"integer q >= 3: K, h, Kfav; q = 2: K, h (Kfav is redundant with K and h there); " +
+				"non-integer q or q < 2: K only (a field needs integer q >= 2)",
+			Params: []Param{{
+				Name: "q", Kind: Real, Min: 0, MinOpen: true, Max: math.Inf(1), Default: "3",
+				Help: fmt.Sprintf("number of states; any real q > 0, integers at most %d", MaxStates),
+			}},
+			New: func(v Values) (*Model, error) { return NewPotts(v.Real("q")) },
+		},
+		{
+			Name: "clock",
+			Help: "q-state clock model, -H/kT = Σ_k K_k Σ cos(2πk(n_i-n_j)/q) + h Σ cos(2π n_i/q); " +
+				"couplings K, K2 … K⌊q/2⌋ (harmonics), h (a field breaks Z_q and the basis no longer closes)",
+			Params: []Param{{
+				Name: "q", Kind: Int, Min: 2, Max: MaxStates, Default: "6",
+				Help: "number of states",
+			}},
+			New: func(v Values) (*Model, error) { return NewClock(v.Int("q")) },
+		},
+		{
+			Name: "spin1",
+			Help: "spin-1 model, -H/kT = J Σ s_i s_j + K Σ s_i² s_j² - D Σ s_i² + h Σ s_i + Jodd Σ (s_i² s_j + s_i s_j²)/2, " +
+				"s ∈ {1, 0, -1}; K is the biquadratic coupling here",
+			New: func(Values) (*Model, error) { return NewSpin1(), nil },
+		},
+	}
+}
+
+// Schemes returns the RG schemes, in a fixed order.
+func Schemes() []SchemeSpec {
+	return []SchemeSpec{
+		{
+			Name: "chain",
+			Help: "exact decimation of the one-dimensional chain, W' ∝ W^b",
+			Params: []Param{{
+				Name: "b", Kind: Int, Min: 2, Max: MaxB, Default: "2",
+				Help: "rescaling factor: sites kept are every b-th",
+			}},
+			Build: func(m *Model, v Values) (flow.Map, error) { return NewChain(m, v.Int("b")) },
+		},
+	}
+}
+
+// LookupModel returns the model called name; the error lists the accepted
+// names.
+func LookupModel(name string) (ModelSpec, error) {
+	var names []string
+	for _, s := range Models() {
+		if s.Name == name {
+			return s, nil
+		}
+		names = append(names, s.Name)
+	}
+	return ModelSpec{}, fmt.Errorf("unknown model %q; accepted: %s", name, strings.Join(names, ", "))
+}
+
+// LookupScheme returns the scheme called name; the error lists the
+// accepted names.
+func LookupScheme(name string) (SchemeSpec, error) {
+	var names []string
+	for _, s := range Schemes() {
+		if s.Name == name {
+			return s, nil
+		}
+		names = append(names, s.Name)
+	}
+	return SchemeSpec{}, fmt.Errorf("unknown scheme %q; accepted: %s", name, strings.Join(names, ", "))
+}

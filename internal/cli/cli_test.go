@@ -1,0 +1,189 @@
+package cli
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"encoding/json"
+	"math"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+func run(args ...string) (code int, stdout, stderr string) {
+	var o, e bytes.Buffer
+	code = Main(context.Background(), args, strings.NewReader(""), &o, &e)
+	return code, o.String(), e.String()
+}
+
+// Wrong input: a non-zero exit and one clear line on stderr naming the
+// problem and what is accepted; never a panic or stack trace.
+func TestBadInput(t *testing.T) {
+	cases := []struct {
+		args []string
+		want []string // substrings of the message
+	}{
+		{[]string{"fixed", "--model", "heisenberg"}, []string{"heisenberg", "ising"}},
+		{[]string{"fixed", "--scheme", "nope"}, []string{"nope", "chain"}},
+		{[]string{"fixed", "--set", "b=1"}, []string{"b=1", ">= 2"}},
+		{[]string{"fixed", "--set", "b=1.5"}, []string{"b=1.5", "whole"}},
+		{[]string{"fixed", "--set", "b=NaN"}, []string{"b=NaN", "finite"}},
+		{[]string{"fixed", "--set", "b=Inf"}, []string{"b=Inf", "finite"}},
+		{[]string{"fixed", "--set", "K=1"}, []string{"K", "coupling", "--from"}},
+		{[]string{"fixed", "--set", "zeta=1"}, []string{"zeta", "accepted", "b"}},
+		{[]string{"fixed", "--set", "b=2,q=3"}, []string{"b=2,q=3"}},
+		{[]string{"fixed", "--set", "b"}, []string{"NAME=VALUE"}},
+		{[]string{"fixed", "--model", "potts", "--set", "q=0"}, []string{"q=0", "> 0"}},
+		{[]string{"fixed", "--model", "potts", "--set", "q=-1"}, []string{"q=-1"}},
+		{[]string{"fixed", "--json", "--csv"}, []string{"--json", "--csv"}},
+		{[]string{"fixed", "--bogus"}, []string{"unknown flag", "--bogus"}},
+		{[]string{"fixed", "extra"}, []string{"extra"}},
+		{[]string{"trace"}, []string{"--from"}},
+		{[]string{"trace", "--from", "K"}, []string{"NAME=VALUE"}},
+		{[]string{"trace", "--from", "K=abc"}, []string{"not a number"}},
+		{[]string{"trace", "--from", "K=NaN"}, []string{"finite"}},
+		{[]string{"trace", "--from", "K=Inf"}, []string{"finite"}},
+		{[]string{"trace", "--from", "K=-inf"}, []string{"finite"}},
+		{[]string{"trace", "--from", "J=1"}, []string{"no coupling", "K, h"}},
+		{[]string{"trace", "--from", "k=1"}, []string{"case-sensitive"}},
+		{[]string{"trace", "--from", "K=1,K=2"}, []string{"twice"}},
+		{[]string{"trace", "--from", "K=1", "--steps", "-1"}, []string{"--steps"}},
+		{[]string{"trace", "--model", "potts", "--set", "q=2.5", "--from", "h=1"}, []string{"no coupling", "h"}},
+		{[]string{"nosuch"}, []string{"unknown command"}},
+	}
+	for _, c := range cases {
+		code, out, errs := run(c.args...)
+		name := strings.Join(c.args, " ")
+		if code == 0 {
+			t.Errorf("%s: exit 0, want non-zero", name)
+		}
+		if strings.Count(errs, "\n") != 1 || !strings.HasPrefix(errs, "scalewalk: ") {
+			t.Errorf("%s: stderr %q, want exactly one line starting 'scalewalk: '", name, errs)
+		}
+		if strings.Contains(errs, "panic") || strings.Contains(errs, "goroutine") {
+			t.Errorf("%s: stack trace on stderr: %q", name, errs)
+		}
+		for _, w := range c.want {
+			if !strings.Contains(errs, w) {
+				t.Errorf("%s: message %q does not mention %q", name, errs, w)
+			}
+		}
+		if out != "" {
+			t.Errorf("%s: wrote to stdout on error: %q", name, out)
+		}
+	}
+}
+
+func TestHelpEverywhere(t *testing.T) {
+	for _, args := range [][]string{{"--help"}, {"list", "--help"}, {"fixed", "--help"}, {"trace", "--help"}, {"help", "fixed"}} {
+		code, out, errs := run(args...)
+		if code != 0 || !strings.Contains(out, "Usage:") || errs != "" {
+			t.Errorf("%v: exit %d, stdout %d bytes, stderr %q", args, code, len(out), errs)
+		}
+	}
+	_, out, _ := run("fixed", "--help")
+	for _, rel := range []string{"hyperscaling", "Widom", "Fisher", "nu    = 1/y_t"} {
+		if !strings.Contains(out, rel) {
+			t.Errorf("fixed --help does not name %q", rel)
+		}
+	}
+}
+
+func TestList(t *testing.T) {
+	code, out, _ := run("list")
+	if code != 0 {
+		t.Fatalf("exit %d", code)
+	}
+	for _, w := range []string{"ising", "potts", "clock", "spin1", "chain", "Kfav", "Jodd", "biquadratic", "default 2"} {
+		if !strings.Contains(out, w) {
+			t.Errorf("list does not show %q", w)
+		}
+	}
+	code, out, _ = run("list", "--json")
+	var doc map[string]any
+	if code != 0 || json.Unmarshal([]byte(out), &doc) != nil {
+		t.Fatalf("list --json: exit %d, invalid JSON", code)
+	}
+}
+
+// fixed --json on the b = 2 Ising chain: the K = 0 family (sink) and the
+// K = +inf point, critical with y = 1 in exp(-2K) and y_h = 1 = d
+// (Nelson and Fisher, Ann. Phys. 91, 226, 1975; Nienhuis and Nauenberg,
+// PRL 35, 477, 1975, from memory).
+func TestFixedJSONIsingChain(t *testing.T) {
+	code, out, errs := run("fixed", "--model", "ising", "--scheme", "chain", "--set", "b=2", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc struct {
+		Model       string  `json:"model"`
+		B           float64 `json:"b"`
+		FixedPoints []struct {
+			Values   map[string]*float64 `json:"values"`
+			Infinite map[string]string   `json:"infinite"`
+			Family   *struct {
+				Free  []string       `json:"free"`
+				Range map[string]any `json:"range"`
+			} `json:"family"`
+			Kind          string              `json:"kind"`
+			Discontinuity bool                `json:"discontinuity"`
+			Y             []*float64          `json:"y"`
+			Exponents     map[string]*float64 `json:"exponents"`
+		} `json:"fixed_points"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if doc.Model != "ising" || doc.B != 2 || len(doc.FixedPoints) != 2 {
+		t.Fatalf("model %q b %g with %d fixed points, want ising, 2, 2", doc.Model, doc.B, len(doc.FixedPoints))
+	}
+	f := doc.FixedPoints[0]
+	if f.Family == nil || f.Family.Free[0] != "h" || f.Kind != "sink" || f.Family.Range["h"].([]any)[1] != "+inf" {
+		t.Errorf("first point %+v, want the sink family along h to +inf", f)
+	}
+	z := doc.FixedPoints[1]
+	if z.Infinite["K"] != "+inf" || z.Kind != "critical" || !z.Discontinuity {
+		t.Errorf("second point %+v, want K = +inf critical discontinuity", z)
+	}
+	for _, y := range z.Y {
+		if y == nil || math.Abs(*y-1) > 1e-7 {
+			t.Errorf("y %v, want 1", y)
+		}
+	}
+	if z.Exponents["delta"] != nil {
+		t.Errorf("delta = %v, want null (infinite)", *z.Exponents["delta"])
+	}
+}
+
+// trace --csv on the b = 3 chain: row 0 is the start and each row is the
+// exact b = 3 recursion of the previous, tanh K' = tanh^3 K at h = 0
+// (Nelson and Fisher 1975).
+func TestTraceCSV(t *testing.T) {
+	code, out, errs := run("trace", "--model", "ising", "--scheme", "chain", "--set", "b=3", "--from", "K=0.8", "--steps", "3", "--csv")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	rows, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Join(rows[0], ",") != "n,K,h,g" || len(rows) != 5 {
+		t.Fatalf("header %v with %d rows, want n,K,h,g and 5 rows", rows[0], len(rows))
+	}
+	k := 0.8
+	for n := 1; n < len(rows); n++ {
+		got, _ := strconv.ParseFloat(rows[n][1], 64)
+		if math.Abs(got-k) > 1e-12 {
+			t.Errorf("row %d K = %.15g, want %.15g", n-1, got, k)
+		}
+		k = math.Atanh(math.Pow(math.Tanh(k), 3))
+	}
+}
+
+func TestDefaultReport(t *testing.T) {
+	code, out, _ := run()
+	if code != 0 || !strings.Contains(out, "critical") || !strings.Contains(out, "exp(-2K)") {
+		t.Errorf("scalewalk with no arguments: exit %d, output %q", code, out)
+	}
+}
