@@ -48,7 +48,13 @@ type Model struct {
 
 	// Potts algebra: ln|q−1|, sign(q−1), ln|q−2|, sign(q−2).
 	lnQ1, sgQ1, lnQ2, sgQ2 float64
+
+	absent map[string]string // couplings this instance lacks, with the reason
 }
+
+// Absent returns why the model lacks a coupling called name (e.g. a Potts
+// field at non-integer q), or "" when it has no such reason to give.
+func (m *Model) Absent(name string) string { return m.absent[name] }
 
 // Name returns the model's name with its parameters, e.g. "potts q=3".
 func (m *Model) Name() string { return m.name }

@@ -68,6 +68,8 @@ func NewPotts(q float64) (*Model, error) {
 			couplings: []flow.Coupling{kc}, basis: []float64{1, 0}}
 		m.lnQ1, m.sgQ1 = lnAbsSign(q - 1)
 		m.lnQ2, m.sgQ2 = lnAbsSign(q - 2)
+		why := "a field needs integer q >= 2 (this model has q=" + strconv.FormatFloat(q, 'g', -1, 64) + ")"
+		m.absent = map[string]string{"h": why, "Kfav": "the favoured-state pair term needs integer q >= 3"}
 		return m, nil
 	}
 	if q > MaxStates {
@@ -90,13 +92,19 @@ func NewPotts(q float64) (*Model, error) {
 		delta,
 		func(s, t int) float64 { return (delta(s, 0) + delta(t, 0)) / 2 },
 	}
+	var absent map[string]string
+	if n == 2 {
+		absent = map[string]string{"Kfav": "at q = 2 the favoured-state pair term is a combination of K, h and a constant; it exists from q = 3"}
+	}
 	if n >= 3 {
 		fp, fm := both("Kfav", 1)
 		cs = append(cs, flow.Coupling{Name: "Kfav", Role: flow.PairField, Symmetric: false, Plus: fp, Minus: fm,
 			Help: "pair term on the favoured state, Kfav δ(σ_i, 1) δ(σ_j, 1)"})
 		phi = append(phi, func(s, t int) float64 { return delta(s, 0) * delta(t, 0) })
 	}
-	return newFull(name, sym, n, cs, phi), nil
+	m := newFull(name, sym, n, cs, phi)
+	m.absent = absent
+	return m, nil
 }
 
 func lnAbsSign(v float64) (lnAbs, sign float64) {

@@ -311,3 +311,62 @@ func TestCheckMapOnKnownMaps(t *testing.T) {
 		t.Error(err)
 	}
 }
+
+// faceMap has K' = K^2 + 3/16 (fixed at K = 1/4 and 3/4, with
+// dK'/dK = 2K = 1/2 and 3/2) and h' = 2h - 1, so that in u = exp(2h) the
+// face h = -inf is kept, u' = e^{-2} u^2, and holds the two K fixed points
+// outside the symmetric subspace (a constructed known-answer map).
+type faceMap struct{}
+
+func (faceMap) Couplings() []flow.Coupling {
+	m := flow.ExpCompact("h", 2, -1)
+	m.Residual = "(q-1)-state Potts"
+	return []flow.Coupling{
+		{Name: "K", Role: flow.Exchange, Symmetric: true},
+		{Name: "h", Role: flow.Field, Symmetric: false, Minus: m},
+	}
+}
+func (faceMap) Rescale() float64   { return 2 }
+func (faceMap) Dimension() float64 { return 1 }
+func (faceMap) Symmetry() string   { return "test" }
+func (faceMap) Step(dst, x []float64) float64 {
+	dst[0] = x[0]*x[0] + 3.0/16
+	dst[1] = 2*x[1] - 1
+	return 0
+}
+
+// Fixed points off the symmetric subspace are classified by all their
+// relevant directions and name the residual symmetry of the face.
+func TestResidualSymmetry(t *testing.T) {
+	ps := find(t, faceMap{})
+	var onFace []flow.FixedPoint
+	for _, p := range ps {
+		if p.Inf[1] == -1 {
+			onFace = append(onFace, p)
+		}
+	}
+	if len(onFace) != 2 {
+		t.Fatalf("%d fixed points on the face h = -inf, want 2", len(onFace))
+	}
+	for _, p := range onFace {
+		wantKind := flow.Sink
+		if math.Abs(p.X[0]-0.75) < newtonTol {
+			wantKind = flow.Critical
+		} else if math.Abs(p.X[0]-0.25) > newtonTol {
+			t.Errorf("face point at K = %g, want 1/4 or 3/4", p.X[0])
+		}
+		if p.Kind != wantKind || p.Symmetric {
+			t.Errorf("K = %g: kind %v symmetric %v, want %v off the symmetric subspace", p.X[0], p.Kind, p.Symmetric, wantKind)
+		}
+		named := false
+		for _, n := range p.Notes {
+			named = named || n == "residual symmetry: (q-1)-state Potts"
+		}
+		if !named {
+			t.Errorf("K = %g: notes %v do not name the residual symmetry", p.X[0], p.Notes)
+		}
+		if p.Coordinates[1] != "exp(2h)" {
+			t.Errorf("coordinate %q, want exp(2h)", p.Coordinates[1])
+		}
+	}
+}

@@ -49,7 +49,7 @@ func TestBadInput(t *testing.T) {
 		{[]string{"trace", "--from", "k=1"}, []string{"case-sensitive"}},
 		{[]string{"trace", "--from", "K=1,K=2"}, []string{"twice"}},
 		{[]string{"trace", "--from", "K=1", "--steps", "-1"}, []string{"--steps"}},
-		{[]string{"trace", "--model", "potts", "--set", "q=2.5", "--from", "h=1"}, []string{"no coupling", "h"}},
+		{[]string{"trace", "--model", "potts", "--set", "q=2.5", "--from", "h=1"}, []string{"no coupling", "h", "integer q >= 2"}},
 		{[]string{"nosuch"}, []string{"unknown command"}},
 	}
 	for _, c := range cases {

@@ -123,7 +123,7 @@ produces NaN or Inf.`,
 			if err != nil {
 				return err
 			}
-			x, err := parsePoint("--from", from, b.m)
+			x, err := parsePoint("--from", from, b.m, b.model.Absent)
 			if err != nil {
 				return err
 			}

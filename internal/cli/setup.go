@@ -61,8 +61,9 @@ func schemeNames() []string {
 
 // built is a map with what the reports need to know about it.
 type built struct {
-	m    flow.Map
-	meta report.Meta
+	m     flow.Map
+	meta  report.Meta
+	model *decimation.Model
 }
 
 // build resolves the model, scheme and parameters into a map.
@@ -135,7 +136,7 @@ func (o *options) build() (*built, error) {
 	for k, v := range sv {
 		params[k] = v
 	}
-	return &built{m: m, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: params}}, nil
+	return &built{m: m, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: params}, model: model}, nil
 }
 
 func hasParam(ps []decimation.Param, n string) bool {
@@ -179,7 +180,8 @@ func acceptedParams(ms decimation.ModelSpec, ss decimation.SchemeSpec) string {
 }
 
 // parsePoint parses "K=0.8,h=0.1" into couplings of m (unnamed ones 0).
-func parsePoint(flag, s string, m flow.Map) ([]float64, error) {
+// absent, if not nil, says why a model lacks a coupling.
+func parsePoint(flag, s string, m flow.Map, absent func(string) string) ([]float64, error) {
 	names := flow.Names(m)
 	x := make([]float64, len(names))
 	if strings.TrimSpace(s) == "" {
@@ -193,6 +195,9 @@ func parsePoint(flag, s string, m flow.Map) ([]float64, error) {
 			return nil, usagef("%s %q: %q is not NAME=VALUE; expected e.g. %s=0.5,%s over the couplings %s", flag, s, part, names[0], restExample(names), strings.Join(names, ", "))
 		}
 		i := flow.Index(m, name)
+		if i < 0 && absent != nil && absent(name) != "" {
+			return nil, usagef("%s %q: no coupling %q here: %s; the couplings are %s", flag, s, name, absent(name), strings.Join(names, ", "))
+		}
 		if i < 0 {
 			return nil, usagef("%s %q: no coupling %q; the couplings are %s (names are case-sensitive)", flag, s, name, strings.Join(names, ", "))
 		}
