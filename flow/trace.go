@@ -112,7 +112,12 @@ func Trace(m Map, x0 []float64, steps int, s *TraceSettings) *Trajectory {
 				if v < 0 {
 					sign = "-"
 				}
-				t.Points = append(t.Points, TracePoint{X: xp, G: math.NaN()})
+				tmp := make([]float64, n)
+				ge := m.Step(tmp, xp)
+				if math.IsInf(ge, 0) {
+					ge = math.NaN()
+				}
+				t.Points = append(t.Points, TracePoint{X: xp, G: ge})
 				t.Stop = Escaped
 				t.Detail = fmt.Sprintf("%s ran past %s%g (toward %sinf)", cs[i].Name, sign, esc, sign)
 				return t

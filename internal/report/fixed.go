@@ -204,7 +204,7 @@ func FixedText(w io.Writer, meta Meta, m flow.Map, res *flow.FindResult) error {
 		b.WriteString("\n")
 		var loc []string
 		for i, c := range cs {
-			loc = append(loc, c.Name+" = "+Text(p.X[i], 10))
+			loc = append(loc, c.Name+" = "+Snap(p.X[i], 10))
 		}
 		fmt.Fprintf(&b, "    at        %s\n", strings.Join(loc, ", "))
 		var coords []string
@@ -238,13 +238,13 @@ func FixedText(w io.Writer, meta Meta, m flow.Map, res *flow.FindResult) error {
 				extra += ", one-body (not counted)"
 			}
 			fmt.Fprintf(tw, "    \t%s\t%s\t%s\t%s\t%s\t%s\n", complexText(d.Lambda), Text(d.LambdaErr, 2),
-				Text(d.Y, 8), Text(d.YErr, 2), d.Block, extra)
+				Snap(d.Y, 8), Text(d.YErr, 2), d.Block, extra)
 		}
 		tw.Flush()
 		if len(p.Exponents) > 0 {
 			tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', 0)
 			for _, e := range p.Exponents {
-				fmt.Fprintf(tw, "    \t%s\t= %s\t(%s)\n", e.Name, Text(e.Value, 8), e.Relation)
+				fmt.Fprintf(tw, "    \t%s\t= %s\t(%s)\n", e.Name, Snap(e.Value, 8), e.Relation)
 			}
 			tw.Flush()
 		}
@@ -258,7 +258,7 @@ func FixedText(w io.Writer, meta Meta, m flow.Map, res *flow.FindResult) error {
 
 func complexText(z complex128) string {
 	if imag(z) == 0 {
-		return Text(real(z), 10)
+		return Snap(real(z), 10)
 	}
 	sign := "+"
 	if imag(z) < 0 {

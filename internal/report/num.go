@@ -69,3 +69,13 @@ func Text(f float64, digits int) string {
 	}
 	return s
 }
+
+// Snap formats like Text but writes values below 1e-9 in magnitude as 0:
+// for fitted and extrapolated quantities (eigenvalues, exponents) whose
+// error bars are far larger than such residues.
+func Snap(f float64, digits int) string {
+	if math.Abs(f) < 1e-9 {
+		return "0"
+	}
+	return Text(f, digits)
+}
