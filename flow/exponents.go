@@ -18,11 +18,15 @@ type Exponent struct {
 // Special cases are:
 //
 //	y_t = NaN: only y_h and eta are returned (if y_h is known)
-//	|y_h − d| ≤ tolH: delta = +Inf (a discontinuity in the field)
+//	|y_h − d| ≤ tolH: y_h is taken as d, and delta = +Inf (a discontinuity
+//	in the field)
 func ScalingExponents(yt, yh, d, tolH float64) []Exponent {
 	var out []Exponent
 	haveT := !math.IsNaN(yt)
 	haveH := !math.IsNaN(yh)
+	if haveH && math.Abs(yh-d) <= tolH {
+		yh = d // equal within its error: the relations then hold exactly
+	}
 	if haveT {
 		out = append(out, Exponent{"y_t", yt, "leading symmetric eigenvalue: y_t = ln|lambda_t| / ln b"})
 	}

@@ -46,6 +46,10 @@ type Family struct {
 	Free  []int        // indices of the couplings that vary along the family
 	Range [][2]float64 // per free coupling, [lo, hi]; ±Inf where unbounded
 	Basis [][]float64  // orthonormal tangent directions in chart coordinates
+	// Tangent spans the same directions in reduced row-echelon form: each
+	// vector has a leading coupling of its own (axis-aligned families come
+	// out as unit vectors), normalised to a leading entry of 1.
+	Tangent [][]float64
 }
 
 // FixedPoint is a fixed point with its analysis.
@@ -344,44 +348,100 @@ func mergeFaceEnds(pts []found) []found {
 	return out
 }
 
-// endOf reports whether the face point p is the end at infinity of the
-// family q: every coupling p has at an infinity where q has it finite is a
-// free coupling of q whose range reaches that infinity, and the other
-// couplings agree with q's representative.
+// endOf reports whether the face point p is an end at infinity of the
+// family q: some tangent direction v of q, followed one way, sends exactly
+// the couplings p has at an infinity (and q has finite) to those
+// infinities, q's range reaches them, and p's other couplings are values
+// the family takes (q's representative, or within range along another
+// tangent direction).
 func endOf(q, p found) bool {
+	var gone []int
+	for i := range p.c.inf {
+		if p.c.inf[i] == q.c.inf[i] {
+			continue
+		}
+		if q.c.inf[i] != 0 {
+			return false
+		}
+		gone = append(gone, i)
+	}
+	if len(gone) == 0 {
+		return false
+	}
 	fk := map[int]int{}
 	for k, j := range q.fam.Free {
 		fk[j] = k
 	}
-	for i := range p.c.inf {
-		pi, qi := p.c.inf[i], q.c.inf[i]
-		if pi == qi {
-			if pi != 0 {
-				continue
-			}
-			if k, free := fk[i]; free {
-				if p.res.y[i] < q.fam.Range[k][0] || p.res.y[i] > q.fam.Range[k][1] {
-					return false
-				}
-				continue
-			}
-			if math.Abs(p.res.y[i]-q.res.y[i]) > 1e-6*(1+math.Abs(q.res.y[i])) {
-				return false
-			}
+	const tiny = 1e-6
+	covered := map[int]bool{}
+	used := make([]bool, len(q.fam.Tangent))
+	for bi, v := range q.fam.Tangent {
+		touches := false
+		for _, i := range gone {
+			touches = touches || math.Abs(v[i]) > tiny
+		}
+		if !touches {
 			continue
 		}
+		// Following v one way must send exactly gone couplings, all to
+		// p's infinities.
+		sign := 0.0
+		for i := range v {
+			if math.Abs(v[i]) <= tiny {
+				continue
+			}
+			if !contains(gone, i) {
+				return false
+			}
+			want := 1.0
+			if p.c.inf[i] < 0 {
+				want = -1
+			}
+			sg := want * math.Copysign(1, v[i])
+			if sign != 0 && sg != sign {
+				return false
+			}
+			sign = sg
+			covered[i] = true
+		}
+		used[bi] = true
+	}
+	for _, i := range gone {
 		k, free := fk[i]
-		if !free || qi != 0 {
+		if !covered[i] || !free {
 			return false
 		}
-		if pi > 0 && !math.IsInf(q.fam.Range[k][1], 1) {
+		if (p.c.inf[i] > 0 && !math.IsInf(q.fam.Range[k][1], 1)) || (p.c.inf[i] < 0 && !math.IsInf(q.fam.Range[k][0], -1)) {
 			return false
 		}
-		if pi < 0 && !math.IsInf(q.fam.Range[k][0], -1) {
+	}
+	for i := range p.c.inf {
+		if p.c.inf[i] != 0 || contains(gone, i) {
+			continue
+		}
+		other := false
+		for bj, w := range q.fam.Tangent {
+			other = other || (!used[bj] && math.Abs(w[i]) > tiny)
+		}
+		if other {
+			k, free := fk[i]
+			if !free || p.res.y[i] < q.fam.Range[k][0] || p.res.y[i] > q.fam.Range[k][1] {
+				return false
+			}
+		} else if math.Abs(p.res.y[i]-q.res.y[i]) > 1e-6*(1+math.Abs(q.res.y[i])) {
 			return false
 		}
 	}
 	return true
+}
+
+func contains(v []int, x int) bool {
+	for _, e := range v {
+		if e == x {
+			return true
+		}
+	}
+	return false
 }
 
 // faceMayHold probes the face at a few points and reports whether the map
@@ -530,7 +590,7 @@ func (c *chart) family(r newtonResult, s *FindSettings) (*Family, newtonResult) 
 	if len(basis) == 0 {
 		return nil, r
 	}
-	fam := &Family{Basis: basis}
+	fam := &Family{Basis: basis, Tangent: echelon(basis)}
 	lo := make([]float64, n)
 	hi := make([]float64, n)
 	copy(lo, y)
@@ -719,16 +779,30 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 			fp.Coordinates[i] = c.comp[i].Name
 		}
 	}
-	if cl, ok := m.(Closer); ok && len(c.face) == 0 {
-		fp.Closure = cl.Closure(fp.X)
+	closureGrows := false
+	var closureNear, closureFar float64
+	if cl, ok := m.(Closer); ok {
+		if len(c.face) == 0 {
+			fp.Closure = cl.Closure(fp.X)
+		} else {
+			// At infinite coupling, measure the closure error on the way
+			// there, at two depths.
+			at := func(u float64) float64 {
+				yy := append([]float64(nil), y...)
+				for _, i := range c.face {
+					yy[i] = u
+				}
+				x := make([]float64, n)
+				c.toX(x, yy)
+				return cl.Closure(x)
+			}
+			closureNear, closureFar = at(1e-6), at(1e-12)
+			fp.Closure = math.Max(closureNear, closureFar)
+			closureGrows = closureFar > 1e-8 && closureFar > 1.5*closureNear
+		}
 	}
 	jac, errs := c.jacobian(y)
 	fp.Jacobian, fp.JacobianErr = jac, errs
-	dirs, ok := eigenDirections(jac, errs, m.Rescale())
-	if !ok {
-		fp.Notes = append(fp.Notes, "eigen-decomposition failed")
-		return fp
-	}
 
 	// Which invariant blocks apply here.
 	const zeroTol = 1e-9
@@ -749,36 +823,76 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 		symmetric = true
 	}
 	fp.Symmetric = symmetric
-	var groups [][]int
-	var gBlock []Block
-	var gOne []bool
-	for _, sym := range []bool{true, false} {
-		for _, one := range []bool{false, true} {
-			var idx []int
-			for i, cp := range c.cs {
-				if (!symmetric || cp.Symmetric == sym) && (!zeroTwo || cp.Role.OneBody() == one) {
-					idx = append(idx, i)
-				}
+	split := symmetric && hasBreaking(c.cs)
+	// At a symmetric point the symmetric and breaking blocks decouple (x′_s
+	// is even and x′_b odd in x_b), and at zero two-site couplings the
+	// two-site couplings do not respond to one-body ones. Entries that
+	// these identities make zero are set to exactly zero when they are
+	// zero within their error, so eigenvectors do not mix across blocks.
+	clean := mat.DenseCopyOf(jac)
+	for i, ci := range c.cs {
+		for j, cj := range c.cs {
+			cross := split && ci.Symmetric != cj.Symmetric
+			oneToTwo := zeroTwo && ci.TwoSite() && cj.Role.OneBody()
+			if (cross || oneToTwo) && math.Abs(clean.At(i, j)) <= 10*errs.At(i, j)+1e-12 {
+				clean.Set(i, j, 0)
 			}
-			if len(idx) == 0 || (!symmetric && !sym) || (!zeroTwo && one) {
-				continue
-			}
-			groups = append(groups, idx)
-			b := MixedBlock
-			if symmetric {
-				b = BreakingBlock
-				if sym {
-					b = SymmetricBlock
-				}
-			}
-			gBlock = append(gBlock, b)
-			gOne = append(gOne, zeroTwo && one)
 		}
 	}
-	tagBlocks(dirs, jac, groups, func(d *Direction, g int) {
-		d.Block = gBlock[g]
-		d.OneBody = gOne[g]
-	})
+	var blocks [][]int
+	var blockKind []Block
+	if split {
+		var sIdx, bIdx []int
+		for i, cp := range c.cs {
+			if cp.Symmetric {
+				sIdx = append(sIdx, i)
+			} else {
+				bIdx = append(bIdx, i)
+			}
+		}
+		blocks, blockKind = [][]int{sIdx, bIdx}, []Block{SymmetricBlock, BreakingBlock}
+	} else {
+		all := make([]int, n)
+		for i := range all {
+			all[i] = i
+		}
+		kind := MixedBlock
+		if symmetric {
+			kind = SymmetricBlock
+		}
+		blocks, blockKind = [][]int{all}, []Block{kind}
+	}
+	var dirs []Direction
+	for bk, idx := range blocks {
+		if len(idx) == 0 {
+			continue
+		}
+		sub := subMatrix(clean, idx)
+		subErr := subMatrix(errs, idx)
+		bd, ok := eigenDirections(sub, subErr, m.Rescale())
+		if !ok {
+			fp.Notes = append(fp.Notes, "eigen-decomposition failed")
+			return fp
+		}
+		var two, one []int
+		for a, i := range idx {
+			if zeroTwo && c.cs[i].Role.OneBody() {
+				one = append(one, a)
+			} else {
+				two = append(two, a)
+			}
+		}
+		if zeroTwo && len(one) > 0 {
+			tagBlocks(bd, sub, [][]int{two, one}, func(d *Direction, g int) { d.OneBody = g == 1 })
+		}
+		for k := range bd {
+			bd[k].Block = blockKind[bk]
+			bd[k].Right = embed(bd[k].Right, idx, n)
+			bd[k].Left = embed(bd[k].Left, idx, n)
+		}
+		dirs = append(dirs, bd...)
+	}
+	sort.SliceStable(dirs, func(i, j int) bool { return cmplx.Abs(dirs[i].Lambda) > cmplx.Abs(dirs[j].Lambda) })
 	if fam != nil {
 		// The k directions nearest λ = 1 are along the family.
 		for range fam.Basis {
@@ -835,7 +949,7 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 		}
 	}
 	switch {
-	case symmetryOf(m) == "" && n >= 2 && counted == n && allRelevant:
+	case symmetryOf(m) == "" && counted == n && allRelevant:
 		fp.Kind = Source
 	case fp.Relevant == 0:
 		fp.Kind = Sink
@@ -918,10 +1032,30 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 	if fp.Marginal > 0 {
 		fp.Notes = append(fp.Notes, fmt.Sprintf("%d marginal direction(s) within %.0e", fp.Marginal, s.MarginalTol))
 	}
-	if !math.IsNaN(fp.Closure) && fp.Closure > 1e-10 {
+	if closureGrows {
+		fp.Notes = append(fp.Notes, fmt.Sprintf("closure error grows toward this point (%.3g, then %.3g closer in): the coupling basis does not hold the flow here, so this fixed point may be an artefact of the projection", closureNear, closureFar))
+	} else if !math.IsNaN(fp.Closure) && fp.Closure > 1e-10 {
 		fp.Notes = append(fp.Notes, fmt.Sprintf("closure error %.3g: the step leaves the coupling basis", fp.Closure))
 	}
 	return fp
+}
+
+func subMatrix(a *mat.Dense, idx []int) *mat.Dense {
+	out := mat.NewDense(len(idx), len(idx), nil)
+	for p, i := range idx {
+		for q, j := range idx {
+			out.Set(p, q, a.At(i, j))
+		}
+	}
+	return out
+}
+
+func embed(v []complex128, idx []int, n int) []complex128 {
+	out := make([]complex128, n)
+	for p, i := range idx {
+		out[i] = v[p]
+	}
+	return out
 }
 
 func hasOneBody(cs []Coupling) bool {
@@ -970,4 +1104,53 @@ func countInf(v []int) int {
 		}
 	}
 	return n
+}
+
+// echelon returns the reduced row-echelon form of the rows vs (linearly
+// independent), with entries below 1e-12 set to 0.
+func echelon(vs [][]float64) [][]float64 {
+	k := len(vs)
+	if k == 0 {
+		return nil
+	}
+	n := len(vs[0])
+	a := make([][]float64, k)
+	for i := range vs {
+		a[i] = append([]float64(nil), vs[i]...)
+	}
+	row := 0
+	for col := 0; col < n && row < k; col++ {
+		piv := row
+		for r := row + 1; r < k; r++ {
+			if math.Abs(a[r][col]) > math.Abs(a[piv][col]) {
+				piv = r
+			}
+		}
+		if math.Abs(a[piv][col]) < 1e-9 {
+			continue
+		}
+		a[row], a[piv] = a[piv], a[row]
+		p := a[row][col]
+		for j := range a[row] {
+			a[row][j] /= p
+		}
+		for r := 0; r < k; r++ {
+			if r == row {
+				continue
+			}
+			f := a[r][col]
+			for j := range a[r] {
+				a[r][j] -= f * a[row][j]
+			}
+		}
+		row++
+	}
+	for i := range a {
+		for j := range a[i] {
+			if math.Abs(a[i][j]) < 1e-12 {
+				a[i][j] = 0
+			}
+		}
+	}
+	return a
 }

@@ -34,8 +34,12 @@ type Complex struct {
 
 // FamilyJSON describes a family of fixed points.
 type FamilyJSON struct {
-	Free  []string             `json:"free"`
-	Range map[string][2]Signed `json:"range"`
+	Free      []string             `json:"free"`
+	Range     map[string][2]Signed `json:"range"`
+	Dimension int                  `json:"dimension"`
+	// Directions are tangent vectors (coupling name -> component) in
+	// reduced row-echelon form, in the coordinates of the analysis.
+	Directions []map[string]Num `json:"directions"`
 }
 
 // FixedPointJSON is one fixed point in the `fixed --json` contract.
@@ -62,6 +66,7 @@ type FixedPointJSON struct {
 	Exponents        map[string]Num    `json:"exponents"`
 	Relations        map[string]string `json:"relations"`
 	Residual         Num               `json:"residual"`
+	Iterations       int               `json:"iterations"`
 	Closure          Num               `json:"closure_error"`
 	Notes            []string          `json:"notes"`
 }
@@ -127,7 +132,7 @@ func FixedPoint(m flow.Map, p flow.FixedPoint) FixedPointJSON {
 		Kind: p.Kind.String(), Discontinuity: p.Discontinuity, ZeroTemperature: p.ZeroTemperature,
 		Symmetric: p.Symmetric, Relevant: p.Relevant, RelevantBreaking: p.RelevantBreaking, Marginal: p.Marginal,
 		Exponents: map[string]Num{}, Relations: map[string]string{},
-		Residual: Num(p.Residual), Closure: Num(p.Closure), Notes: append([]string{}, p.Notes...),
+		Residual: Num(p.Residual), Iterations: p.Iterations, Closure: Num(p.Closure), Notes: append([]string{}, p.Notes...),
 		Eigenvalues: []Complex{}, EigenvalueErr: []Num{}, Y: []Num{}, YErr: []Num{},
 		Blocks: []string{}, Relevance: []string{}, Counted: []bool{}, ScalingFields: [][]Complex{},
 	}
@@ -142,10 +147,19 @@ func FixedPoint(m flow.Map, p flow.FixedPoint) FixedPointJSON {
 		}
 	}
 	if p.Family != nil {
-		f := &FamilyJSON{Range: map[string][2]Signed{}}
+		f := &FamilyJSON{Range: map[string][2]Signed{}, Dimension: len(p.Family.Basis), Directions: []map[string]Num{}}
 		for k, i := range p.Family.Free {
 			f.Free = append(f.Free, cs[i].Name)
 			f.Range[cs[i].Name] = [2]Signed{Signed(p.Family.Range[k][0]), Signed(p.Family.Range[k][1])}
+		}
+		for _, v := range p.Family.Tangent {
+			d := map[string]Num{}
+			for i, c := range cs {
+				if v[i] != 0 {
+					d[c.Name] = Num(v[i])
+				}
+			}
+			f.Directions = append(f.Directions, d)
 		}
 		j.Family = f
 	}
@@ -221,9 +235,14 @@ func FixedText(w io.Writer, meta Meta, m flow.Map, res *flow.FindResult) error {
 			for k, i := range p.Family.Free {
 				fr = append(fr, fmt.Sprintf("%s in [%s, %s]", cs[i].Name, Text(p.Family.Range[k][0], 6), Text(p.Family.Range[k][1], 6)))
 			}
-			fmt.Fprintf(&b, "    family    %s (values above are one representative)\n", strings.Join(fr, ", "))
+			fmt.Fprintf(&b, "    family    %d-dimensional, along %s; %s (values above are one representative)\n",
+				len(p.Family.Basis), tangentText(cs, p.Family.Tangent), strings.Join(fr, ", "))
 		}
-		fmt.Fprintf(&b, "    relevant  %d symmetric, %d symmetry-breaking", p.Relevant, p.RelevantBreaking)
+		if p.Symmetric {
+			fmt.Fprintf(&b, "    relevant  %d symmetric, %d symmetry-breaking", p.Relevant, p.RelevantBreaking)
+		} else {
+			fmt.Fprintf(&b, "    relevant  %d (all directions: the point is off the symmetric subspace)", p.Relevant)
+		}
 		if p.Marginal > 0 {
 			fmt.Fprintf(&b, ", %d marginal", p.Marginal)
 		}
@@ -251,6 +270,7 @@ func FixedText(w io.Writer, meta Meta, m flow.Map, res *flow.FindResult) error {
 		for _, n := range p.Notes {
 			fmt.Fprintf(&b, "    note: %s\n", n)
 		}
+		fmt.Fprintf(&b, "    found with residual %s after %d Newton iteration(s)\n", Text(p.Residual, 2), p.Iterations)
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
@@ -330,4 +350,25 @@ func FixedCSV(w io.Writer, m flow.Map, res *flow.FindResult) error {
 		rows = append(rows, r)
 	}
 	return writeCSV(w, rows)
+}
+
+// tangentText describes tangent directions: a unit vector along one
+// coupling as its name, others as proportions, e.g. "(h, Kfav) ∝ (1, -1)".
+func tangentText(cs []flow.Coupling, ts [][]float64) string {
+	var parts []string
+	for _, v := range ts {
+		var names, comps []string
+		for i, c := range cs {
+			if v[i] != 0 {
+				names = append(names, c.Name)
+				comps = append(comps, Text(v[i], 6))
+			}
+		}
+		if len(names) == 1 {
+			parts = append(parts, names[0])
+		} else {
+			parts = append(parts, "("+strings.Join(names, ", ")+") ∝ ("+strings.Join(comps, ", ")+")")
+		}
+	}
+	return strings.Join(parts, " and ")
 }
