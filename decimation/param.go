@@ -103,8 +103,11 @@ func (p Param) Parse(s string) (any, error) {
 	switch p.Kind {
 	case Int, Real:
 		v, err := strconv.ParseFloat(s, 64)
+		if err != nil && !errors.Is(err, strconv.ErrRange) {
+			return nil, bad("not a number; accepted: " + p.Range())
+		}
 		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, bad("not a finite number; accepted: " + p.Range())
+			return nil, bad("not finite; accepted: " + p.Range())
 		}
 		if p.Kind == Int && v != math.Trunc(v) {
 			return nil, bad("not a whole number; accepted: " + p.Range())

@@ -25,7 +25,7 @@ type SchemeSpec struct {
 }
 
 // MaxB is the largest rescaling factor the schemes accept.
-const MaxB = 1 << 20
+const MaxB = 10000
 
 // Models returns the spin models, in a fixed order.
 func Models() []ModelSpec {

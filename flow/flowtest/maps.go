@@ -19,7 +19,7 @@ func logCosh(x float64) float64 {
 //	K′ = ¼ ln[cosh(2K+h) cosh(2K−h) / cosh² h]
 //	h′ = h + ½ ln[cosh(2K+h) / cosh(2K−h)]
 //
-// with the constant per site g = ¼ ln[4 cosh(2K+h) cosh(2K−h) cosh² h] / 2
+// with the constant per site g = ⅛ ln[16 cosh(2K+h) cosh(2K−h) cosh² h]
 // derived from the same partial trace (site field split half onto each
 // bond). Known answers: the line K = 0 is a family of fixed points along
 // h; K = +∞, h = 0 is fixed with λ = 2 in e^{−2K} and in h.

@@ -140,10 +140,17 @@ produces NaN or Inf.`,
 			case o.json:
 				return writeJSON(stdout, report.Trace(b.meta, b.m, t))
 			case o.csv:
-				if t.Stop != flow.MaxSteps {
-					fmt.Fprintf(stderr, "scalewalk: trace stopped after %d step(s): %s %s\n", len(t.Points)-1, t.Stop, t.Detail)
+				if err := report.TraceCSV(stdout, b.m, t); err != nil {
+					return err
 				}
-				return report.TraceCSV(stdout, b.m, t)
+				if t.Stop != flow.MaxSteps {
+					msg := t.Stop.String()
+					if t.Detail != "" {
+						msg += " (" + t.Detail + ")"
+					}
+					fmt.Fprintf(stderr, "scalewalk: trace stopped after %d step(s): %s\n", len(t.Points)-1, msg)
+				}
+				return nil
 			}
 			return report.TraceText(stdout, b.meta, b.m, t)
 		},

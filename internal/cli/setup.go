@@ -1,6 +1,7 @@
 package cli
 
 import (
+	"errors"
 	"math"
 	"sort"
 	"strconv"
@@ -206,6 +207,9 @@ func parsePoint(flag, s string, m flow.Map, absent func(string) string) ([]float
 		}
 		seen[name] = true
 		v, err := strconv.ParseFloat(strings.TrimSpace(val), 64)
+		if err != nil && errors.Is(err, strconv.ErrRange) {
+			return nil, usagef("%s %q: %s=%s is out of range: it must be a finite number", flag, s, name, val)
+		}
 		if err != nil {
 			return nil, usagef("%s %q: %s=%q is not a number", flag, s, name, val)
 		}
