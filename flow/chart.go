@@ -2,6 +2,7 @@ package flow
 
 import (
 	"math"
+	"strconv"
 	"strings"
 )
 
@@ -11,10 +12,66 @@ import (
 type chart struct {
 	m    Map
 	cs   []Coupling
-	inf  []int // per coupling: 0 finite, +1 at +∞, −1 at −∞
+	inf  []int // per coupling: 0 finite, +1 at +∞, −1 at −∞ (face coordinates)
 	comp []*Compact
 	face []int // indices with inf ≠ 0
 	free []int // indices with inf == 0
+	// A ray chart has one face coordinate, the pivot, and describes the
+	// other couplings relative to it: xᵢ = yᵢ + shear[i]·x_pivot, so a
+	// fixed point at infinity along a direction of coupling space (not an
+	// axis) has finite coordinates yᵢ. nil for an ordinary chart.
+	shear []float64
+	pivot int
+}
+
+// rayChart returns the chart with the pivot p at its infinity of sign
+// sign and the other couplings sheared along it.
+func rayChart(m Map, p, sign int, shear []float64) *chart {
+	inf := make([]int, len(shear))
+	inf[p] = sign
+	c := newChart(m, inf)
+	c.shear = append([]float64(nil), shear...)
+	c.pivot = p
+	return c
+}
+
+// infinities returns, per coupling, the infinity the chart's face sends it
+// to: the face coordinates' own, and on a ray chart the sheared couplings
+// too.
+func (c *chart) infinities() []int {
+	out := append([]int(nil), c.inf...)
+	if c.shear != nil {
+		for i, s := range c.shear {
+			if i != c.pivot && s != 0 {
+				out[i] = c.inf[c.pivot] * int(math.Copysign(1, s))
+			}
+		}
+	}
+	return out
+}
+
+// coordName names the chart coordinate of coupling i.
+func (c *chart) coordName(i int) string {
+	if c.inf[i] != 0 {
+		return c.comp[i].Name
+	}
+	if c.shear == nil || c.shear[i] == 0 {
+		return c.cs[i].Name
+	}
+	coef := -c.shear[i]
+	sign := "+"
+	if coef < 0 {
+		sign, coef = "-", -coef
+	}
+	f := ""
+	if coef != 1 {
+		f = trimFloat(coef)
+		if len(f) > 8 {
+			f = strconv.FormatFloat(coef, 'g', 6, 64)
+		}
+		f += "*"
+	}
+	return c.cs[i].Name + sign + f + c.cs[c.pivot].Name
 }
 
 func newChart(m Map, inf []int) *chart {
@@ -97,6 +154,14 @@ func (c *chart) toX(x, y []float64) {
 		}
 		x[i] = c.comp[i].X(y[i])
 	}
+	if c.shear != nil {
+		xp := x[c.pivot]
+		for i, s := range c.shear {
+			if i != c.pivot && s != 0 {
+				x[i] += s * xp
+			}
+		}
+	}
 }
 
 // toY converts couplings to chart coordinates.
@@ -107,6 +172,14 @@ func (c *chart) toY(y, x []float64) {
 			continue
 		}
 		y[i] = c.comp[i].U(x[i])
+	}
+	if c.shear != nil {
+		xp := x[c.pivot]
+		for i, s := range c.shear {
+			if i != c.pivot && s != 0 {
+				y[i] -= s * xp
+			}
+		}
 	}
 }
 
@@ -256,4 +329,118 @@ func (c *chart) pathIndependent(y []float64) bool {
 		}
 	}
 	return true
+}
+
+// Rays: fixed points at infinity off the coordinate axes.
+//
+// At zero temperature a map becomes asymptotically piecewise linear in
+// the couplings (the Boltzmann weights are dominated by their largest
+// terms): R(t v) ≈ μ t v′ + O(1) as t → ∞. A direction v with v′ = v is a
+// ray the flow keeps; a fixed point "at infinity along v" has finite
+// coordinates transverse to it. rays finds such directions by power
+// iteration on the asymptotic slope, from each coupling's declared
+// infinity, and returns them as ray charts (sheared on the probing
+// coupling). Axis directions are left to the ordinary charts.
+
+const (
+	rayT1 = 40.0 // probing distances along a direction, in coupling units
+	rayT2 = 80.0
+)
+
+func rays(m Map) []*chart {
+	cs := m.Couplings()
+	n := len(cs)
+	var out []*chart
+	var seen [][]float64
+	r1 := make([]float64, n)
+	r2 := make([]float64, n)
+	x := make([]float64, n)
+	for p, c := range cs {
+		for _, sign := range []int{1, -1} {
+			if (sign > 0 && c.Plus == nil) || (sign < 0 && c.Minus == nil) {
+				continue
+			}
+			v := make([]float64, n)
+			v[p] = float64(sign)
+			ok := false
+			for it := 0; it < 40; it++ {
+				for i := range x {
+					x[i] = rayT1 * v[i]
+				}
+				m.Step(r1, x)
+				for i := range x {
+					x[i] = rayT2 * v[i]
+				}
+				m.Step(r2, x)
+				w := make([]float64, n)
+				var big float64
+				for i := range w {
+					w[i] = (r2[i] - r1[i]) / (rayT2 - rayT1)
+					big = math.Max(big, math.Abs(w[i]))
+				}
+				if !(big > 1e-6) || math.IsNaN(big) || math.IsInf(big, 0) {
+					break
+				}
+				// Normalise on the pivot, keeping the direction's sign.
+				if !(w[p]*float64(sign) > 0.25*big) {
+					break
+				}
+				scale := math.Abs(w[p])
+				var diff float64
+				for i := range w {
+					w[i] /= scale
+					diff = math.Max(diff, math.Abs(w[i]-v[i]))
+				}
+				v = w
+				if diff < 1e-10 {
+					ok = true
+					break
+				}
+			}
+			if !ok {
+				continue
+			}
+			shear := make([]float64, n)
+			axis := true
+			for i := range v {
+				if i == p {
+					continue
+				}
+				shear[i] = niceRatio(v[i] / v[p])
+				axis = axis && shear[i] == 0
+			}
+			if axis {
+				continue
+			}
+			dup := false
+			for _, u := range seen {
+				same := true
+				for i := range u {
+					same = same && math.Abs(u[i]-v[i]/math.Abs(v[p])) < 1e-6
+				}
+				dup = dup || same
+			}
+			if dup {
+				continue
+			}
+			seen = append(seen, v)
+			out = append(out, rayChart(m, p, sign, shear))
+		}
+	}
+	return out
+}
+
+// niceRatio rounds r to a fraction with a denominator up to 12 when it is
+// within 1e-7 of one, and to 0 below 1e-9.
+func niceRatio(r float64) float64 {
+	if math.Abs(r) < 1e-9 {
+		return 0
+	}
+	for d := 1.0; d <= 12; d++ {
+		k := math.Round(r * d)
+		if math.Abs(r-k/d) < 1e-7 {
+			return k / d
+		}
+	}
+	return r
 }

@@ -156,7 +156,7 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 	t0 := time.Now()
 	s = s.defaults()
 	out := &FindResult{}
-	cs := charts(m)
+	cs := append(charts(m), rays(m)...)
 	type chartOut struct {
 		pts               []found
 		starts, converged int
@@ -333,7 +333,7 @@ func mergeFaceEnds(pts []found) []found {
 	for _, p := range pts {
 		merged := false
 		for _, q := range pts {
-			if q.fam == nil || len(q.c.face) >= len(p.c.face) {
+			if q.fam == nil || len(q.c.face) >= len(p.c.face) || p.c.shear != nil || q.c.shear != nil {
 				continue
 			}
 			if endOf(q, p) {
@@ -590,7 +590,19 @@ func (c *chart) family(r newtonResult, s *FindSettings) (*Family, newtonResult) 
 	if len(basis) == 0 {
 		return nil, r
 	}
-	fam := &Family{Basis: basis, Tangent: echelon(basis)}
+	// Components below 1e-6 of a direction's largest are noise of the
+	// null-space computation: drop them before naming the directions.
+	clean := make([][]float64, len(basis))
+	for k, v := range basis {
+		big := maxAbs(v)
+		clean[k] = make([]float64, n)
+		for i := range v {
+			if math.Abs(v[i]) > 1e-6*big {
+				clean[k][i] = v[i]
+			}
+		}
+	}
+	fam := &Family{Basis: basis, Tangent: echelon(clean)}
 	lo := make([]float64, n)
 	hi := make([]float64, n)
 	copy(lo, y)
@@ -766,18 +778,15 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 	n := len(y)
 	fp := FixedPoint{
 		X:           make([]float64, n),
-		Inf:         append([]int(nil), c.inf...),
+		Inf:         c.infinities(),
 		Coordinates: make([]string, n),
 		U:           append([]float64(nil), y...),
 		Family:      fam,
 		Closure:     math.NaN(),
 	}
 	c.toX(fp.X, y)
-	for i, cp := range c.cs {
-		fp.Coordinates[i] = cp.Name
-		if c.inf[i] != 0 {
-			fp.Coordinates[i] = c.comp[i].Name
-		}
+	for i := range c.cs {
+		fp.Coordinates[i] = c.coordName(i)
 	}
 	closureGrows := false
 	var closureNear, closureFar float64
@@ -815,7 +824,7 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 		if cp.TwoSite() && !atZero {
 			zeroTwo = false
 		}
-		if cp.TwoSite() && cp.Symmetric && c.inf[i] != 0 {
+		if cp.TwoSite() && cp.Symmetric && fp.Inf[i] != 0 {
 			fp.ZeroTemperature = true
 		}
 	}

@@ -390,3 +390,47 @@ func TestResidualSymmetry(t *testing.T) {
 		}
 	}
 }
+
+// rayMap keeps the direction (1, 1) at infinity off the axes: a' = a - c
+// with c = ln(2)/2, b' = a' + (b - a)/2, so in the chart (u = exp(-a),
+// b - a) it is u' = sqrt(2) u, (b - a)' = (b - a)/2, with a fixed point at
+// u = 0, b - a = 0 and eigenvalues sqrt(2) and 1/2 (a constructed
+// known-answer map). No finite fixed point exists, and the face a = +inf
+// with b finite is not kept (b' runs off).
+type rayMap struct{}
+
+func (rayMap) Couplings() []flow.Coupling {
+	return []flow.Coupling{
+		{Name: "a", Role: flow.Exchange, Symmetric: true, Plus: flow.ExpCompact("a", 1, 1)},
+		{Name: "b", Role: flow.Exchange, Symmetric: true},
+	}
+}
+func (rayMap) Rescale() float64   { return 2 }
+func (rayMap) Dimension() float64 { return 1 }
+func (rayMap) Symmetry() string   { return "test" }
+func (rayMap) Step(dst, x []float64) float64 {
+	ap := x[0] - math.Ln2/2
+	dst[0] = ap
+	dst[1] = ap + (x[1]-x[0])/2
+	return 0
+}
+
+func TestRayFixedPoint(t *testing.T) {
+	ps := find(t, rayMap{})
+	if len(ps) != 1 {
+		t.Fatalf("%d fixed points, want 1 (at infinity along (1, 1))", len(ps))
+	}
+	p := ps[0]
+	if p.Inf[0] != 1 || p.Inf[1] != 1 || p.Coordinates[0] != "exp(-a)" || p.Coordinates[1] != "b-a" {
+		t.Errorf("inf %v coordinates %v, want both +inf in (exp(-a), b-a)", p.Inf, p.Coordinates)
+	}
+	if math.Abs(p.U[1]) > newtonTol {
+		t.Errorf("b - a = %g, want 0", p.U[1])
+	}
+	want := []float64{math.Sqrt2, 0.5}
+	for k, d := range p.Directions {
+		if math.Abs(cmplx.Abs(d.Lambda)-want[k]) > richTol {
+			t.Errorf("eigenvalue %d = %v, want %g", k, d.Lambda, want[k])
+		}
+	}
+}
