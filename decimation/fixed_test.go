@@ -151,3 +151,33 @@ func BenchmarkFindAllChain(b *testing.B) {
 		})
 	}
 }
+
+// The spin-1 chain's zero-temperature point lies at infinity off the
+// coupling axes (J -> +inf with K + J and D + 2J finite or running off):
+// deep in the s = ±1 sector the chain is the Ising chain with exchange J,
+// whose T = 0 fixed point has lambda = b in exp(-2J) (tanh J' = tanh^b J,
+// Nelson and Fisher, Ann. Phys. 91, 226, 1975) and lambda_h = b^d = b
+// (Nienhuis and Nauenberg, PRL 35, 477, 1975, from memory): a critical,
+// discontinuity fixed point.
+func TestSpin1ZeroTemperature(t *testing.T) {
+	for _, b := range []int{2, 3} {
+		var zt *flow.FixedPoint
+		ps := findChain(t, NewSpin1(), b)
+		for k := range ps {
+			if ps[k].Inf[0] == 1 && ps[k].Kind == flow.Critical {
+				zt = &ps[k]
+			}
+		}
+		if zt == nil {
+			t.Fatalf("b=%d: no critical fixed point at J = +inf", b)
+		}
+		if !zt.Discontinuity || !zt.ZeroTemperature || zt.Coordinates[0] != "exp(-2J)" {
+			t.Errorf("b=%d: J=+inf point disc %v zeroT %v coords %v", b, zt.Discontinuity, zt.ZeroTemperature, zt.Coordinates)
+		}
+		yt, _ := flow.Lookup(zt.Exponents, "y_t")
+		yh, _ := flow.Lookup(zt.Exponents, "y_h")
+		if math.Abs(yt-1) > 1e-6 || math.Abs(yh-1) > 1e-6 {
+			t.Errorf("b=%d: y_t = %g, y_h = %g, want 1 and 1", b, yt, yh)
+		}
+	}
+}

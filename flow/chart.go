@@ -24,17 +24,6 @@ type chart struct {
 	pivot int
 }
 
-// rayChart returns the chart with the pivot p at its infinity of sign
-// sign and the other couplings sheared along it.
-func rayChart(m Map, p, sign int, shear []float64) *chart {
-	inf := make([]int, len(shear))
-	inf[p] = sign
-	c := newChart(m, inf)
-	c.shear = append([]float64(nil), shear...)
-	c.pivot = p
-	return c
-}
-
 // infinities returns, per coupling, the infinity the chart's face sends it
 // to: the face coordinates' own, and on a ray chart the sheared couplings
 // too.
@@ -42,7 +31,7 @@ func (c *chart) infinities() []int {
 	out := append([]int(nil), c.inf...)
 	if c.shear != nil {
 		for i, s := range c.shear {
-			if i != c.pivot && s != 0 {
+			if i != c.pivot && s != 0 && out[i] == 0 {
 				out[i] = c.inf[c.pivot] * int(math.Copysign(1, s))
 			}
 		}
@@ -52,12 +41,25 @@ func (c *chart) infinities() []int {
 
 // coordName names the chart coordinate of coupling i.
 func (c *chart) coordName(i int) string {
+	sheared := c.shear != nil && i != c.pivot && c.shear[i] != 0
 	if c.inf[i] != 0 {
+		if sheared {
+			name := c.comp[i].Name
+			if strings.Contains(name, "("+c.cs[i].Name+")") {
+				return strings.Replace(name, "("+c.cs[i].Name+")", "("+c.shearedName(i)+")", 1)
+			}
+			return strings.Replace(name, c.cs[i].Name, "("+c.shearedName(i)+")", 1)
+		}
 		return c.comp[i].Name
 	}
-	if c.shear == nil || c.shear[i] == 0 {
+	if !sheared {
 		return c.cs[i].Name
 	}
+	return c.shearedName(i)
+}
+
+// shearedName names the sheared coupling xᵢ − shearᵢ·x_pivot, e.g. "D+2*J".
+func (c *chart) shearedName(i int) string {
 	coef := -c.shear[i]
 	sign := "+"
 	if coef < 0 {
@@ -166,20 +168,20 @@ func (c *chart) toX(x, y []float64) {
 
 // toY converts couplings to chart coordinates.
 func (c *chart) toY(y, x []float64) {
+	xp := 0.0
+	if c.shear != nil {
+		xp = x[c.pivot]
+	}
 	for i := range x {
+		xi := x[i]
+		if c.shear != nil && i != c.pivot {
+			xi -= c.shear[i] * xp
+		}
 		if c.inf[i] == 0 {
-			y[i] = x[i]
+			y[i] = xi
 			continue
 		}
-		y[i] = c.comp[i].U(x[i])
-	}
-	if c.shear != nil {
-		xp := x[c.pivot]
-		for i, s := range c.shear {
-			if i != c.pivot && s != 0 {
-				y[i] -= s * xp
-			}
-		}
+		y[i] = c.comp[i].U(xi)
 	}
 }
 
@@ -424,9 +426,58 @@ func rays(m Map) []*chart {
 				continue
 			}
 			seen = append(seen, v)
-			out = append(out, rayChart(m, p, sign, shear))
+			out = append(out, rayCharts(m, p, sign, shear)...)
 		}
 	}
+	return out
+}
+
+// rayCharts returns the ray chart and its faces: each transverse coupling
+// finite, or (sheared) at an infinity for which it declares a coordinate,
+// the ray chart first.
+func rayCharts(m Map, p, sign int, shear []float64) []*chart {
+	cs := m.Couplings()
+	var out []*chart
+	inf := make([]int, len(cs))
+	inf[p] = sign
+	var rec func(i int)
+	rec = func(i int) {
+		if i == len(cs) {
+			c := newChart(m, inf)
+			c.shear = append([]float64(nil), shear...)
+			c.pivot = p
+			// Off the axes, the search stays in the symmetric subspace:
+			// at such nested zero-temperature limits, symmetry-breaking
+			// couplings often become redundant with each other (a field
+			// and an odd pair term act alike on s = ±1), and their
+			// continua say nothing new. They are still linearized.
+			var free []int
+			for _, j := range c.free {
+				if cs[j].Symmetric {
+					free = append(free, j)
+				}
+			}
+			c.free = free
+			out = append(out, c)
+			return
+		}
+		if i == p {
+			rec(i + 1)
+			return
+		}
+		inf[i] = 0
+		rec(i + 1)
+		if cs[i].Symmetric && cs[i].Plus != nil {
+			inf[i] = 1
+			rec(i + 1)
+		}
+		if cs[i].Symmetric && cs[i].Minus != nil {
+			inf[i] = -1
+			rec(i + 1)
+		}
+		inf[i] = 0
+	}
+	rec(0)
 	return out
 }
 

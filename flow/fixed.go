@@ -50,6 +50,8 @@ type Family struct {
 	// vector has a leading coupling of its own (axis-aligned families come
 	// out as unit vectors), normalised to a leading entry of 1.
 	Tangent [][]float64
+
+	paths [][][]float64 // the walked points, for membership of curved families
 }
 
 // FixedPoint is a fixed point with its analysis.
@@ -310,12 +312,44 @@ func onFamily(f *Family, rep, y []float64) bool {
 			d[i] -= p * v[i]
 		}
 	}
+	onSpan := true
 	for i := range d {
 		if math.Abs(d[i]) > 1e-6*(1+math.Abs(y[i])) {
-			return false
+			onSpan = false
 		}
 	}
-	return true
+	if onSpan {
+		return true
+	}
+	// A curved family: near a segment of a walked path.
+	for _, path := range f.paths {
+		for k := 1; k < len(path); k++ {
+			if segmentDist(y, path[k-1], path[k]) <= 1e-5*(1+maxAbs(y)) {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// segmentDist is the Euclidean distance from y to the segment [a, b].
+func segmentDist(y, a, b []float64) float64 {
+	var ab2, t float64
+	for i := range y {
+		ab2 += (b[i] - a[i]) * (b[i] - a[i])
+		t += (y[i] - a[i]) * (b[i] - a[i])
+	}
+	if ab2 > 0 {
+		t = clamp(t/ab2, 0, 1)
+	} else {
+		t = 0
+	}
+	var d2 float64
+	for i := range y {
+		e := y[i] - (a[i] + t*(b[i]-a[i]))
+		d2 += e * e
+	}
+	return math.Sqrt(d2)
 }
 
 func dot(a, b []float64) float64 {
@@ -607,11 +641,13 @@ func (c *chart) family(r newtonResult, s *FindSettings) (*Family, newtonResult) 
 	hi := make([]float64, n)
 	copy(lo, y)
 	copy(hi, y)
+	var paths [][][]float64
 	for _, dir := range basis {
 		for _, sign := range []float64{-1, 1} {
-			c.walk(y, dir, sign, &sub, lo, hi)
+			paths = append(paths, c.walk(y, dir, sign, &sub, lo, hi))
 		}
 	}
+	fam.paths = paths
 	for _, i := range c.free {
 		moves := false
 		for _, dir := range basis {
@@ -706,50 +742,65 @@ func (c *chart) walkLimit() float64 {
 	return l
 }
 
-// walk follows the family from y along sign·dir with doubling steps,
-// updating the per-coupling extremes lo and hi, until it leaves the family
-// (then bisects for the end) or passes walkLimit (the end is at infinity).
-func (c *chart) walk(y, dir []float64, sign float64, s *FindSettings, lo, hi []float64) {
+// walk follows the family from y along sign·dir by continuation: predict
+// a step along the current tangent, correct with Newton, accept when the
+// correction is small against the step (then the step grows), halve the
+// step otherwise. It updates the per-coupling extremes lo and hi and
+// returns the accepted points. It ends at a finite end (the step shrinks
+// below 1e-7) or at infinity (past walkLimit; the couplings still moving
+// then run to ±∞).
+func (c *chart) walk(y, dir []float64, sign float64, s *FindSettings, lo, hi []float64) [][]float64 {
 	limit := c.walkLimit()
-	prevT := 0.0
-	t := 0.05
-	record := func(z []float64) {
+	n := len(y)
+	cur := append([]float64(nil), y...)
+	d := make([]float64, n)
+	for i := range d {
+		d[i] = sign * dir[i]
+	}
+	path := [][]float64{cur}
+	step := 0.05
+	for it := 0; it < 400 && step > 1e-7; it++ {
+		z, ok := c.correct(cur, d, step, s)
+		if !ok {
+			step /= 2
+			continue
+		}
+		// New tangent: the chord, normalised.
+		var norm float64
+		nd := make([]float64, n)
+		for i := range nd {
+			nd[i] = z[i] - cur[i]
+			norm += nd[i] * nd[i]
+		}
+		norm = math.Sqrt(norm)
+		if norm == 0 {
+			step /= 2
+			continue
+		}
+		for i := range nd {
+			nd[i] /= norm
+		}
 		for i := range z {
 			lo[i] = math.Min(lo[i], z[i])
 			hi[i] = math.Max(hi[i], z[i])
 		}
-	}
-	for {
-		z, ok := c.correct(y, dir, sign*t, s)
-		if ok && maxAbs(z) > limit {
-			for i := range dir {
-				if math.Abs(dir[i]) > 1e-6 {
-					if dir[i]*sign > 0 {
+		path = append(path, z)
+		cur, d = z, nd
+		if maxAbs(z) > limit {
+			for i := range d {
+				if math.Abs(d[i]) > 1e-3 {
+					if d[i] > 0 {
 						hi[i] = math.Inf(1)
 					} else {
 						lo[i] = math.Inf(-1)
 					}
 				}
 			}
-			return
+			break
 		}
-		if !ok {
-			a, b := prevT, t
-			for k := 0; k < 50 && b-a > 1e-12*(1+a); k++ {
-				mid := (a + b) / 2
-				if zz, ok := c.correct(y, dir, sign*mid, s); ok {
-					record(zz)
-					a = mid
-				} else {
-					b = mid
-				}
-			}
-			return
-		}
-		record(z)
-		prevT = t
-		t *= 2
+		step *= 2
 	}
+	return path
 }
 
 // Analyse linearizes m at the fixed point x (with inf giving the couplings
