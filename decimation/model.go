@@ -50,6 +50,7 @@ type Model struct {
 	lnQ1, sgQ1, lnQ2, sgQ2 float64
 
 	absent map[string]string // couplings this instance lacks, with the reason
+	potts  bool              // a Potts model (for scheme cautions)
 }
 
 // Absent returns why the model lacks a coupling called name (e.g. a Potts

@@ -68,6 +68,7 @@ func NewPotts(q float64) (*Model, error) {
 			couplings: []flow.Coupling{kc}, basis: []float64{1, 0}}
 		m.lnQ1, m.sgQ1 = lnAbsSign(q - 1)
 		m.lnQ2, m.sgQ2 = lnAbsSign(q - 2)
+		m.potts = true
 		why := "a field needs integer q >= 2 (this model has q=" + strconv.FormatFloat(q, 'g', -1, 64) + ")"
 		m.absent = map[string]string{"h": why, "Kfav": "the favoured-state pair term needs integer q >= 3"}
 		return m, nil
@@ -104,6 +105,7 @@ func NewPotts(q float64) (*Model, error) {
 	}
 	m := newFull(name, sym, n, cs, phi)
 	m.absent = absent
+	m.potts = true
 	return m, nil
 }
 

@@ -77,6 +77,40 @@ func Schemes() []SchemeSpec {
 			}},
 			Build: func(m *Model, v Values) (flow.Map, error) { return NewChain(m, v.Int("b")) },
 		},
+		{
+			Name: "bondmove",
+			Help: "Migdal–Kadanoff bond moving on the d-dimensional hypercubic lattice: b^(d-1) bonds moved in parallel " +
+				"(couplings add) and b in series decimated, in the chosen order; site terms split as h/(2d) onto each bond end. " +
+				"move-first is exact on the necklace hierarchical lattice (parallel bundles in series), decimate-first on the diamond lattice. " +
+				"The field is relevant at the K = 0 sink here (y_h = d - 1), so below the critical point responses to h diverge as h -> 0 by construction of the approximation. " +
+				"ln Z/N per site = d x (per-bond sum) + the constant giving ln q at zero couplings",
+			Params: []Param{
+				{Name: "d", Kind: Real, Min: 1, Max: 20, Default: "2",
+					Help: "lattice dimension, any real d >= 1 (non-integer d: common practice for this approximation)"},
+				{Name: "b", Kind: Int, Min: 2, Max: 64, Default: "2",
+					Help: "length rescaling factor (bonds in series)"},
+				{Name: "order", Kind: Choice, Choices: []string{"move-first", "decimate-first"}, Default: "move-first",
+					Help: "move-first: the traditional estimate for the hypercubic lattice; decimate-first: the conjugate map (same eigenvalues, K* larger by b^(d-1))"},
+			},
+			Build: func(m *Model, v Values) (flow.Map, error) {
+				o := MoveFirst
+				if v.Choice("order") == "decimate-first" {
+					o = DecimateFirst
+				}
+				return NewBondMove(m, v.Real("d"), v.Int("b"), o)
+			},
+		},
+		{
+			Name: "hierarchical",
+			Help: "exact RG of the diamond-family hierarchical lattice: b bonds in series on each of m parallel branches (series, then parallel); " +
+				"dimension d = ln(b m)/ln b; (b, m = b^(d-1)) reproduces bondmove order=decimate-first exactly " +
+				"(bondmove order=move-first is exact on the necklace lattice instead); g is per bond",
+			Params: []Param{
+				{Name: "b", Kind: Int, Min: 2, Max: 64, Default: "2", Help: "bonds in series on each branch"},
+				{Name: "m", Kind: Int, Min: 1, Max: 4096, Default: "2", Help: "parallel branches"},
+			},
+			Build: func(m *Model, v Values) (flow.Map, error) { return NewHierarchical(m, v.Int("b"), v.Int("m")) },
+		},
 	}
 }
 

@@ -131,6 +131,7 @@ type Stats struct {
 	Charts    int
 	Starts    int
 	Converged int
+	Dropped   int // candidates at infinity whose linearization had no stable limit
 	Runtime   time.Duration
 }
 
@@ -204,10 +205,55 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 		fp := analyse(p.c, p.res.y, p.fam, s)
 		fp.Residual = p.res.residual
 		fp.Iterations = p.res.iters
+		if samePlace(out.Points, fp) {
+			// The same point reached through another chart (a ray chart
+			// that shears onto a face the plain charts already hold):
+			// keep the first, analysed in the simpler coordinates.
+			continue
+		}
+		if len(p.c.face) > 0 && !reliable(fp) {
+			// At infinite coupling the map may reach the face only
+			// non-analytically; its one-sided Jacobian then has no stable
+			// limit and the point is no fixed point one can linearize.
+			out.Stats.Dropped++
+			continue
+		}
 		out.Points = append(out.Points, fp)
 	}
 	out.Stats.Runtime = time.Since(t0)
 	return out, nil
+}
+
+// samePlace reports whether fp sits where a point of ps does: the same
+// couplings at the same infinities and the same finite values.
+func samePlace(ps []FixedPoint, fp FixedPoint) bool {
+	for _, q := range ps {
+		same := true
+		for i := range fp.X {
+			if fp.Inf[i] != q.Inf[i] {
+				same = false
+				break
+			}
+			if fp.Inf[i] == 0 && math.Abs(fp.X[i]-q.X[i]) > 1e-6*(1+math.Abs(q.X[i])) {
+				same = false
+				break
+			}
+		}
+		if same {
+			return true
+		}
+	}
+	return false
+}
+
+// reliable reports whether every eigenvalue is known to 1e-4 relative.
+func reliable(fp FixedPoint) bool {
+	for _, d := range fp.Directions {
+		if d.LambdaErr > 1e-4*math.Max(1, cmplx.Abs(d.Lambda)) {
+			return false
+		}
+	}
+	return true
 }
 
 // searchChart runs every start of one chart and returns the distinct fixed

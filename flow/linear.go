@@ -122,6 +122,8 @@ func eigenDirections(jac, errs *mat.Dense, b float64) ([]Direction, bool) {
 	eig.LeftVectorsTo(&lv)
 	dirs := make([]Direction, n)
 	lnb := math.Log(b)
+	normE := mat.Norm(errs, 2)
+	normJ := mat.Norm(jac, 2)
 	for k := 0; k < n; k++ {
 		r := make([]complex128, n)
 		l := make([]complex128, n)
@@ -150,6 +152,11 @@ func eigenDirections(jac, errs *mat.Dense, b float64) ([]Direction, bool) {
 		} else {
 			pert = math.Inf(1)
 		}
+		// Near a defective eigenvalue (a Jordan block) l·r → 0 and the
+		// first-order estimate blows up, while the true shift is of order
+		// √(‖E‖‖J‖) (J. H. Wilkinson, The Algebraic Eigenvalue Problem,
+		// 1965, ch. 2; common practice): use the smaller.
+		pert = math.Min(pert, math.Sqrt(normE*normJ)+normE)
 		lam := vals[k]
 		a := cmplx.Abs(lam)
 		d := Direction{Lambda: lam, LambdaErr: pert, Right: r, Left: l}

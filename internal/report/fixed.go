@@ -89,6 +89,7 @@ type SearchJSON struct {
 	Charts    int `json:"charts"`
 	Starts    int `json:"starts"`
 	Converged int `json:"converged"`
+	Dropped   int `json:"dropped_at_infinity"`
 	Millis    Num `json:"milliseconds"`
 }
 
@@ -115,7 +116,7 @@ func Fixed(meta Meta, m flow.Map, res *flow.FindResult) FixedJSON {
 		B: Num(m.Rescale()), D: Num(m.Dimension()), Symmetry: symmetry(m),
 		Couplings:   Couplings(m),
 		FixedPoints: []FixedPointJSON{},
-		Search: SearchJSON{res.Stats.Charts, res.Stats.Starts, res.Stats.Converged,
+		Search: SearchJSON{res.Stats.Charts, res.Stats.Starts, res.Stats.Converged, res.Stats.Dropped,
 			Num(float64(res.Stats.Runtime.Microseconds()) / 1000)},
 	}
 	for _, p := range res.Points {
@@ -207,6 +208,9 @@ func FixedText(w io.Writer, meta Meta, m flow.Map, res *flow.FindResult) error {
 	}
 	fmt.Fprintf(&b, "%d fixed point(s) found (%d charts, %d starts, %d converged, %.1f ms)\n",
 		len(res.Points), res.Stats.Charts, res.Stats.Starts, res.Stats.Converged, float64(res.Stats.Runtime.Microseconds())/1000)
+	if res.Stats.Dropped > 0 {
+		fmt.Fprintf(&b, "%d candidate(s) at infinite coupling dropped: the map reaches them only non-analytically, so their linearization has no stable limit\n", res.Stats.Dropped)
+	}
 	for k, p := range res.Points {
 		fmt.Fprintf(&b, "\n[%d] %s", k+1, p.Kind)
 		if p.Discontinuity {
