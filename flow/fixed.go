@@ -8,6 +8,7 @@ import (
 	"math/cmplx"
 	"runtime"
 	"sort"
+	"strconv"
 	"strings"
 	"sync"
 	"time"
@@ -77,6 +78,71 @@ type FixedPoint struct {
 	Notes            []string
 
 	Jacobian, JacobianErr *mat.Dense // in chart coordinates
+
+	chart *chart // the coordinates of the analysis
+}
+
+// Place describes where the point is, e.g. "K=+inf, h=0".
+func (p FixedPoint) Place(m Map) string {
+	var parts []string
+	for i, c := range m.Couplings() {
+		v := "0"
+		switch {
+		case p.Inf[i] > 0:
+			v = "+inf"
+		case p.Inf[i] < 0:
+			v = "-inf"
+		case p.Family != nil && containsInt(p.Family.Free, i):
+			v = "free"
+		case math.Abs(p.X[i]) > 1e-12:
+			v = strconv.FormatFloat(p.X[i], 'g', 6, 64)
+		}
+		parts = append(parts, c.Name+"="+v)
+	}
+	return strings.Join(parts, ", ")
+}
+
+// Coords returns x in the point's chart coordinates (u = 0 at its
+// infinities).
+func (p FixedPoint) Coords(x []float64) []float64 {
+	y := make([]float64, len(x))
+	if p.chart == nil {
+		copy(y, x)
+		return y
+	}
+	p.chart.toY(y, x)
+	return y
+}
+
+// Distance returns the sup-norm distance from x to the point (to the
+// nearest point of its family) in the point's chart coordinates.
+func (p FixedPoint) Distance(x []float64) float64 {
+	y := p.Coords(x)
+	d := make([]float64, len(y))
+	for i := range y {
+		d[i] = y[i] - p.U[i]
+		if math.IsNaN(d[i]) {
+			return math.Inf(1)
+		}
+	}
+	if p.Family != nil {
+		for _, v := range p.Family.Basis {
+			q := dot(d, v)
+			for i := range d {
+				d[i] -= q * v[i]
+			}
+		}
+	}
+	return maxAbs(d)
+}
+
+func containsInt(v []int, x int) bool {
+	for _, e := range v {
+		if e == x {
+			return true
+		}
+	}
+	return false
 }
 
 // FindSettings controls [FindAll]. A zero field takes its default.
@@ -880,6 +946,7 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 		U:           append([]float64(nil), y...),
 		Family:      fam,
 		Closure:     math.NaN(),
+		chart:       c,
 	}
 	c.toX(fp.X, y)
 	for i := range c.cs {

@@ -86,6 +86,6 @@ before the step, so that ln Z/N = sum over n of b^(-d n) g(x_n).`,
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return usagef("%v (see '%s --help')", err, c.CommandPath())
 	})
-	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr))
+	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr), newCritical(stdout))
 	return root
 }

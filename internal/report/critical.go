@@ -1,0 +1,442 @@
+package report
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strings"
+	"text/tabwriter"
+
+	"scalewalk/flow"
+)
+
+// CriticalDoc is everything `critical` reports.
+type CriticalDoc struct {
+	Meta        Meta
+	Map         flow.Map
+	Path        flow.Path
+	Temperature bool
+	At          map[string]float64
+	Tolerance   float64
+	Crossings   []flow.Crossing
+	Points      []flow.FixedPoint
+	Sweep       *SweepDoc
+	Cautions    []string
+}
+
+// SweepDoc is the result of --sweep.
+type SweepDoc struct {
+	Name    string
+	Rows    []SweepRow
+	Changes []KindChange
+}
+
+// SweepRow is one sweep value with its crossings.
+type SweepRow struct {
+	Value     float64
+	Crossings []flow.Crossing
+}
+
+// KindChange is where the kind of a transition changes along the sweep.
+type KindChange struct {
+	From, To  flow.TransitionKind
+	Value     float64 // the sweep variable
+	Bracket   [2]float64
+	PathValue float64 // the path variable of the transition there
+}
+
+// Digits returns the significant digits a value known to tol supports.
+func Digits(v, tol float64) int {
+	if v == 0 || tol <= 0 {
+		return 10
+	}
+	d := int(math.Ceil(math.Log10(math.Abs(v)/tol))) + 1
+	return max(1, min(d, 17))
+}
+
+func order(meta Meta) string {
+	if o, ok := meta.Params["order"].(string); ok {
+		return o
+	}
+	return ""
+}
+
+// TransitionJSON is one crossing in the `critical --json` contract.
+type TransitionJSON struct {
+	Coupling    string             `json:"coupling"`
+	Value       Num                `json:"value"`
+	Bracket     [2]Num             `json:"bracket"`
+	Kind        string             `json:"kind"`
+	Controlling *ControllingJSON   `json:"controlling_fixed_point"`
+	KTOverJ     *Num               `json:"kT_over_J"`
+	Exchange    *Num               `json:"exchange_critical_coupling"`
+	Point       map[string]Num     `json:"point"`
+	Phases      map[string]string  `json:"phases"`
+	Order       string             `json:"order,omitempty"`
+	Digits      int                `json:"significant_digits"`
+	Extra       map[string]float64 `json:"-"`
+}
+
+// ControllingJSON is the fixed point controlling a crossing.
+type ControllingJSON struct {
+	Place string `json:"place"`
+	FixedPointJSON
+}
+
+// CriticalJSON is the document `critical --json` writes.
+type CriticalJSON struct {
+	Model       string           `json:"model"`
+	Scheme      string           `json:"scheme"`
+	Order       *string          `json:"order"`
+	Params      map[string]any   `json:"parameters"`
+	Path        PathJSON         `json:"path"`
+	Tolerance   Num              `json:"tolerance"`
+	Transitions []TransitionJSON `json:"transitions"`
+	Sweep       *SweepJSON       `json:"sweep,omitempty"`
+	Notes       []string         `json:"notes"`
+	Cautions    []string         `json:"cautions"`
+}
+
+// PathJSON describes the path.
+type PathJSON struct {
+	Variable    string         `json:"variable"`
+	From        Num            `json:"from"`
+	To          Num            `json:"to"`
+	Samples     int            `json:"samples"`
+	At          map[string]Num `json:"at"`
+	Temperature bool           `json:"temperature"`
+}
+
+// SweepJSON is the --sweep result.
+type SweepJSON struct {
+	Variable string           `json:"variable"`
+	Rows     []SweepRowJSON   `json:"rows"`
+	Changes  []KindChangeJSON `json:"kind_changes"`
+}
+
+// SweepRowJSON is one sweep value.
+type SweepRowJSON struct {
+	Value       Num              `json:"value"`
+	Transitions []TransitionJSON `json:"transitions"`
+}
+
+// KindChangeJSON is a change of the transition's kind along the sweep.
+type KindChangeJSON struct {
+	From      string `json:"from"`
+	To        string `json:"to"`
+	Value     Num    `json:"value"`
+	Bracket   [2]Num `json:"bracket"`
+	PathValue Num    `json:"path_value"`
+}
+
+func (d CriticalDoc) notes() []string {
+	step := math.Abs(d.Path.To-d.Path.From) / float64(d.Path.Samples-1)
+	n := []string{fmt.Sprintf("crossings closer together than the sampling step (%.3g) may be missed", step)}
+	if d.Temperature {
+		n = append(n, "temperature path: the exchange is 1/T and every held value an energy in units of the exchange")
+	}
+	return n
+}
+
+func (d CriticalDoc) transition(c flow.Crossing) TransitionJSON {
+	t := TransitionJSON{
+		Coupling: d.Path.Name, Value: Num(c.Value), Bracket: [2]Num{Num(c.Bracket[0]), Num(c.Bracket[1])},
+		Kind: c.Kind.String(), Point: map[string]Num{},
+		Phases: map[string]string{"below": c.Below.Label, "above": c.Above.Label},
+		Order:  order(d.Meta), Digits: Digits(c.Value, d.Tolerance),
+	}
+	x := make([]float64, len(d.Map.Couplings()))
+	d.Path.Point(x, c.Value)
+	for i, name := range flow.Names(d.Map) {
+		t.Point[name] = Num(x[i])
+	}
+	if d.Temperature {
+		k := Num(c.Value)
+		t.KTOverJ = &k
+		e := Num(1 / c.Value)
+		t.Exchange = &e
+	}
+	if c.Controlling >= 0 && c.Controlling < len(d.Points) {
+		p := d.Points[c.Controlling]
+		t.Controlling = &ControllingJSON{Place: p.Place(d.Map), FixedPointJSON: FixedPoint(d.Map, p)}
+	}
+	return t
+}
+
+// Critical builds the `critical --json` document.
+func Critical(d CriticalDoc) CriticalJSON {
+	j := CriticalJSON{Model: d.Meta.Model, Scheme: d.Meta.Scheme, Params: d.Meta.Params,
+		Path: PathJSON{Variable: d.Path.Name, From: Num(d.Path.From), To: Num(d.Path.To), Samples: d.Path.Samples,
+			At: map[string]Num{}, Temperature: d.Temperature},
+		Tolerance: Num(d.Tolerance), Transitions: []TransitionJSON{}, Notes: d.notes(), Cautions: append([]string{}, d.Cautions...)}
+	if o := order(d.Meta); o != "" {
+		j.Order = &o
+	}
+	for k, v := range d.At {
+		j.Path.At[k] = Num(v)
+	}
+	for _, c := range d.Crossings {
+		j.Transitions = append(j.Transitions, d.transition(c))
+	}
+	if d.Sweep != nil {
+		s := &SweepJSON{Variable: d.Sweep.Name, Rows: []SweepRowJSON{}, Changes: []KindChangeJSON{}}
+		for _, r := range d.Sweep.Rows {
+			row := SweepRowJSON{Value: Num(r.Value), Transitions: []TransitionJSON{}}
+			dd := d
+			dd.At = withAt(d.At, d.Sweep.Name, r.Value)
+			dd.Path = repath(d, dd.At)
+			for _, c := range r.Crossings {
+				row.Transitions = append(row.Transitions, dd.transition(c))
+			}
+			s.Rows = append(s.Rows, row)
+		}
+		for _, c := range d.Sweep.Changes {
+			s.Changes = append(s.Changes, KindChangeJSON{c.From.String(), c.To.String(), Num(c.Value),
+				[2]Num{Num(c.Bracket[0]), Num(c.Bracket[1])}, Num(c.PathValue)})
+		}
+		j.Sweep = s
+	}
+	return j
+}
+
+func withAt(at map[string]float64, name string, v float64) map[string]float64 {
+	out := map[string]float64{}
+	for k, x := range at {
+		out[k] = x
+	}
+	out[name] = v
+	return out
+}
+
+// repath rebuilds the path's point function for other held values, for
+// reporting the couplings at a sweep row's crossings.
+func repath(d CriticalDoc, at map[string]float64) flow.Path {
+	p := d.Path
+	cs := d.Map.Couplings()
+	base := make([]float64, len(cs))
+	for name, v := range at {
+		if i := flow.Index(d.Map, name); i >= 0 {
+			base[i] = v
+		}
+	}
+	orig := d.Path.Point
+	probe := make([]float64, len(cs))
+	p.Point = func(dst []float64, s float64) {
+		orig(probe, s)
+		for i := range dst {
+			if _, held := at[cs[i].Name]; held {
+				if d.Temperature {
+					dst[i] = base[i] / s
+				} else {
+					dst[i] = base[i]
+				}
+			} else {
+				dst[i] = probe[i]
+			}
+		}
+	}
+	return p
+}
+
+// CriticalText writes the aligned report.
+func CriticalText(w io.Writer, d CriticalDoc) error {
+	var b strings.Builder
+	fmt.Fprintf(&b, "model %s, scheme %s", d.Meta.Model, d.Meta.Scheme)
+	if len(d.Meta.Params) > 0 {
+		fmt.Fprintf(&b, " (%s)", paramString(d.Meta.Params))
+	}
+	b.WriteString("\n")
+	fmt.Fprintf(&b, "path: %s from %s to %s, %d samples", d.Path.Name, Text(d.Path.From, 8), Text(d.Path.To, 8), d.Path.Samples)
+	if len(d.At) > 0 {
+		var keys []string
+		for k := range d.At {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		var at []string
+		for _, k := range keys {
+			at = append(at, fmt.Sprintf("%s=%s", k, Text(d.At[k], 8)))
+		}
+		fmt.Fprintf(&b, "; held %s", strings.Join(at, ", "))
+	}
+	b.WriteString("\n")
+	for _, n := range d.notes() {
+		fmt.Fprintf(&b, "note: %s\n", n)
+	}
+	for _, c := range d.Cautions {
+		fmt.Fprintf(&b, "CAUTION: %s\n", c)
+	}
+	fmt.Fprintf(&b, "tolerance %s in %s; %d transition(s)\n", Text(d.Tolerance, 3), d.Path.Name, len(d.Crossings))
+	ord := order(d.Meta)
+	ordText := ""
+	if ord != "" {
+		ordText = " [order " + ord + "]"
+	}
+	for k, c := range d.Crossings {
+		dig := Digits(c.Value, d.Tolerance)
+		fmt.Fprintf(&b, "\n[%d] %s transition\n", k+1, c.Kind)
+		if d.Temperature {
+			e := d.Map.Couplings()[exchange(d.Map)].Name
+			fmt.Fprintf(&b, "    kT_c/J    = %s%s\n", Text(c.Value, dig), ordText)
+			fmt.Fprintf(&b, "    %s_c       = %s (= J/kT_c)%s\n", e, Text(1/c.Value, dig), ordText)
+		} else {
+			fmt.Fprintf(&b, "    %s_c = %s%s (kT_c/J applies only on a temperature path)\n", d.Path.Name, Text(c.Value, dig), ordText)
+		}
+		fmt.Fprintf(&b, "    bracket   [%s, %s]\n", Text(c.Bracket[0], 17), Text(c.Bracket[1], 17))
+		x := make([]float64, len(d.Map.Couplings()))
+		d.Path.Point(x, c.Value)
+		var pt []string
+		for i, name := range flow.Names(d.Map) {
+			pt = append(pt, name+"="+Snap(x[i], 10))
+		}
+		fmt.Fprintf(&b, "    couplings %s\n", strings.Join(pt, ", "))
+		fmt.Fprintf(&b, "    phases    %s below, %s above\n", quoted(c.Below.Label), quoted(c.Above.Label))
+		if c.Controlling >= 0 && c.Controlling < len(d.Points) {
+			p := d.Points[c.Controlling]
+			desc := p.Kind.String()
+			if p.Discontinuity {
+				desc += ", discontinuity"
+			}
+			fmt.Fprintf(&b, "    controlled by the %s fixed point at %s", desc, p.Place(d.Map))
+			if yt, ok := flow.Lookup(p.Exponents, "y_t"); ok {
+				fmt.Fprintf(&b, " (y_t = %s", Snap(yt, 8))
+				if nu, ok := flow.Lookup(p.Exponents, "nu"); ok {
+					fmt.Fprintf(&b, ", nu = %s", Snap(nu, 8))
+				}
+				b.WriteString(")")
+			}
+			b.WriteString("\n")
+		} else {
+			b.WriteString("    controlled by: no fixed point identified\n")
+		}
+	}
+	if d.Sweep != nil {
+		fmt.Fprintf(&b, "\nsweep over %s:\n", d.Sweep.Name)
+		tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', 0)
+		fmt.Fprintf(tw, "  %s\ttransitions (%s: kind)\n", d.Sweep.Name, d.Path.Name)
+		for _, r := range d.Sweep.Rows {
+			var parts []string
+			for _, c := range r.Crossings {
+				parts = append(parts, fmt.Sprintf("%s: %s", Text(c.Value, 8), c.Kind))
+			}
+			if len(parts) == 0 {
+				parts = []string{"none"}
+			}
+			fmt.Fprintf(tw, "  %s\t%s\n", Text(r.Value, 8), strings.Join(parts, "; "))
+		}
+		tw.Flush()
+		if len(d.Sweep.Changes) == 0 {
+			b.WriteString("the kind of the transition does not change over the sweep\n")
+		}
+		for _, ch := range d.Sweep.Changes {
+			fmt.Fprintf(&b, "the transition changes from %s to %s at %s = %s (bracket [%s, %s]), %s = %s there: a multicritical (tricritical) point%s\n",
+				ch.From, ch.To, d.Sweep.Name, Text(ch.Value, 7), Text(ch.Bracket[0], 9), Text(ch.Bracket[1], 9), d.Path.Name, Text(ch.PathValue, 7), ordText)
+		}
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+func quoted(s string) string { return "(" + s + ")" }
+
+func exchange(m flow.Map) int {
+	for i, c := range m.Couplings() {
+		if c.Role == flow.Exchange && c.Symmetric {
+			return i
+		}
+	}
+	return 0
+}
+
+// CriticalCSV writes one row per transition.
+func CriticalCSV(w io.Writer, d CriticalDoc) error {
+	names := flow.Names(d.Map)
+	hdr := []string{"variable", "value", "bracket_lo", "bracket_hi", "kind", "kT_over_J", "order", "controlling", "below", "above"}
+	hdr = append(hdr, names...)
+	rows := [][]string{hdr}
+	add := func(c flow.Crossing, p flow.Path) {
+		kt := ""
+		if d.Temperature {
+			kt = CSV(c.Value)
+		}
+		ctl := ""
+		if c.Controlling >= 0 && c.Controlling < len(d.Points) {
+			ctl = d.Points[c.Controlling].Place(d.Map)
+		}
+		r := []string{p.Name, CSV(c.Value), CSV(c.Bracket[0]), CSV(c.Bracket[1]), c.Kind.String(), kt, order(d.Meta), ctl, c.Below.Label, c.Above.Label}
+		x := make([]float64, len(names))
+		p.Point(x, c.Value)
+		for _, v := range x {
+			r = append(r, CSV(v))
+		}
+		rows = append(rows, r)
+	}
+	for _, c := range d.Crossings {
+		add(c, d.Path)
+	}
+	return writeCSV(w, rows)
+}
+
+// PhaseGrid is the phase reached from each point of a grid.
+type PhaseGrid struct {
+	Meta             Meta
+	Map              flow.Map
+	A, B             string
+	AValues, BValues []float64
+	Labels           []string
+	Phase            [][]int // [b][a] index into Labels
+}
+
+// JSON returns the grid as a JSON-ready value.
+func (g PhaseGrid) JSON() any {
+	av := make([]Num, len(g.AValues))
+	for i, v := range g.AValues {
+		av[i] = Num(v)
+	}
+	bv := make([]Num, len(g.BValues))
+	for i, v := range g.BValues {
+		bv[i] = Num(v)
+	}
+	return map[string]any{"model": g.Meta.Model, "scheme": g.Meta.Scheme, "parameters": g.Meta.Params,
+		"a": g.A, "b": g.B, "a_values": av, "b_values": bv, "phases": g.Labels, "phase": g.Phase}
+}
+
+// CSV writes one row per grid point.
+func (g PhaseGrid) CSV(w io.Writer) error {
+	rows := [][]string{{g.A, g.B, "phase"}}
+	for j, row := range g.Phase {
+		for i, k := range row {
+			rows = append(rows, []string{CSV(g.AValues[i]), CSV(g.BValues[j]), g.Labels[k]})
+		}
+	}
+	return writeCSV(w, rows)
+}
+
+// Text draws the grid with one character per phase and a legend.
+func (g PhaseGrid) Text(w io.Writer) error {
+	var b strings.Builder
+	marks := "abcdefghijklmnopqrstuvwxyz"
+	fmt.Fprintf(&b, "phases reached from each point: %s across (%s to %s), %s down (%s to %s)\n",
+		g.A, Text(g.AValues[0], 6), Text(g.AValues[len(g.AValues)-1], 6), g.B, Text(g.BValues[len(g.BValues)-1], 6), Text(g.BValues[0], 6))
+	for j := len(g.Phase) - 1; j >= 0; j-- {
+		b.WriteString("  ")
+		for _, k := range g.Phase[j] {
+			if k < len(marks) {
+				b.WriteByte(marks[k])
+			} else {
+				b.WriteByte('?')
+			}
+		}
+		b.WriteString("\n")
+	}
+	for k, l := range g.Labels {
+		m := "?"
+		if k < len(marks) {
+			m = string(marks[k])
+		}
+		fmt.Fprintf(&b, "  %s  %s\n", m, l)
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
