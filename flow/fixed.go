@@ -314,6 +314,9 @@ func samePlace(ps []FixedPoint, fp FixedPoint) bool {
 
 // reliable reports whether every eigenvalue is known to 1e-4 relative.
 func reliable(fp FixedPoint) bool {
+	if len(fp.Directions) == 0 {
+		return false
+	}
 	for _, d := range fp.Directions {
 		if d.LambdaErr > 1e-4*math.Max(1, cmplx.Abs(d.Lambda)) {
 			return false
@@ -711,7 +714,7 @@ func (c *chart) family(r newtonResult, s *FindSettings) (*Family, newtonResult) 
 	c.eval(fy, y)
 	c.newtonJac(jac, y, fy)
 	var svd mat.SVD
-	if !svd.Factorize(jac, mat.SVDFull) {
+	if !finiteMatrix(jac) || !svd.Factorize(jac, mat.SVDFull) {
 		return nil, r
 	}
 	vals := svd.Values(nil)

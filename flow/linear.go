@@ -112,6 +112,10 @@ func (c *chart) jacobian(y []float64) (jac, errs *mat.Dense) {
 // theory: |δλ| ≤ |l|ᵀ|E||r| / |l·r|.
 func eigenDirections(jac, errs *mat.Dense, b float64) ([]Direction, bool) {
 	n, _ := jac.Dims()
+	if !finiteMatrix(jac) {
+		// gonum's balancing step does not return on Inf or NaN entries.
+		return nil, false
+	}
 	var eig mat.Eigen
 	if !eig.Factorize(jac, mat.EigenBoth) {
 		return nil, false
@@ -184,6 +188,9 @@ func blockEigenvalues(jac *mat.Dense, idx []int) []complex128 {
 			sub.Set(a, b, jac.At(i, j))
 		}
 	}
+	if !finiteMatrix(sub) {
+		return nil
+	}
 	var eig mat.Eigen
 	if !eig.Factorize(sub, mat.EigenNone) {
 		return nil
@@ -212,4 +219,18 @@ func tagBlocks(dirs []Direction, jac *mat.Dense, groups [][]int, apply func(d *D
 			}
 		}
 	}
+}
+
+// finiteMatrix reports whether every entry of a is finite.
+func finiteMatrix(a mat.Matrix) bool {
+	r, c := a.Dims()
+	for i := 0; i < r; i++ {
+		for j := 0; j < c; j++ {
+			v := a.At(i, j)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return false
+			}
+		}
+	}
+	return true
 }

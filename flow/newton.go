@@ -118,7 +118,7 @@ func (c *chart) solve(y0 []float64, s *FindSettings) newtonResult {
 		for a, i := range c.free {
 			r.SetVec(a, fy[i]-y[i])
 		}
-		if !svd.Factorize(jac, mat.SVDThin) {
+		if !finiteMatrix(jac) || !svd.Factorize(jac, mat.SVDThin) {
 			return out
 		}
 		vals := svd.Values(nil)
