@@ -4,6 +4,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // A chart is a coordinate system on coupling space in which some couplings
@@ -159,9 +161,16 @@ func (c *chart) toX(x, y []float64) {
 	if c.shear != nil {
 		xp := x[c.pivot]
 		for i, s := range c.shear {
-			if i != c.pivot && s != 0 {
-				x[i] += s * xp
+			if i == c.pivot || s == 0 {
+				continue
 			}
+			if c.inf[i] != 0 && y[i] <= 0 {
+				// The sheared combination itself is at its infinity: the
+				// coupling is infinite with the combination's sign.
+				x[i] = math.Inf(c.inf[i])
+				continue
+			}
+			x[i] += s * xp
 		}
 	}
 }
@@ -357,79 +366,221 @@ func rays(m Map) []*chart {
 	r1 := make([]float64, n)
 	r2 := make([]float64, n)
 	x := make([]float64, n)
+	// slope returns the asymptotic slope A(v) = (R(T2 v) − R(T1 v))/(T2 − T1).
+	slope := func(dst, v []float64) bool {
+		for i := range x {
+			x[i] = rayT1 * v[i]
+		}
+		m.Step(r1, x)
+		for i := range x {
+			x[i] = rayT2 * v[i]
+		}
+		m.Step(r2, x)
+		for i := range dst {
+			dst[i] = (r2[i] - r1[i]) / (rayT2 - rayT1)
+			if math.IsNaN(dst[i]) || math.IsInf(dst[i], 0) {
+				return false
+			}
+		}
+		return true
+	}
 	for p, c := range cs {
+		if !c.Symmetric {
+			continue
+		}
+		var others []int
+		for j, cj := range cs {
+			if j != p && cj.Symmetric {
+				others = append(others, j)
+			}
+		}
+		k := len(others)
 		for _, sign := range []int{1, -1} {
 			if (sign > 0 && c.Plus == nil) || (sign < 0 && c.Minus == nil) {
 				continue
 			}
-			v := make([]float64, n)
-			v[p] = float64(sign)
-			ok := false
-			for it := 0; it < 40; it++ {
-				for i := range x {
-					x[i] = rayT1 * v[i]
+			// A ray v = sign·e_p + Σ w_j e_j is kept when the slope is
+			// parallel to it: r(w)_j = A_j/|A_p| − w_j = 0 with A_p of the
+			// ray's sign. Solve by damped Newton from a grid of w, so that
+			// saddle rays (coexistence at zero temperature) are found as
+			// well as attracting ones.
+			a := make([]float64, n)
+			res := func(dst, w []float64) bool {
+				v := make([]float64, n)
+				v[p] = float64(sign)
+				for q, j := range others {
+					v[j] = w[q]
 				}
-				m.Step(r1, x)
-				for i := range x {
-					x[i] = rayT2 * v[i]
+				if !slope(a, v) || !(a[p]*float64(sign) > 1e-9) {
+					return false
 				}
-				m.Step(r2, x)
-				w := make([]float64, n)
-				var big float64
-				for i := range w {
-					w[i] = (r2[i] - r1[i]) / (rayT2 - rayT1)
-					big = math.Max(big, math.Abs(w[i]))
+				for q, j := range others {
+					dst[q] = a[j]/math.Abs(a[p]) - w[q]
 				}
-				if !(big > 1e-6) || math.IsNaN(big) || math.IsInf(big, 0) {
-					break
-				}
-				// Normalise on the pivot, keeping the direction's sign.
-				if !(w[p]*float64(sign) > 0.25*big) {
-					break
-				}
-				scale := math.Abs(w[p])
-				var diff float64
-				for i := range w {
-					w[i] /= scale
-					diff = math.Max(diff, math.Abs(w[i]-v[i]))
-				}
-				v = w
-				if diff < 1e-10 {
-					ok = true
-					break
-				}
+				return true
 			}
-			if !ok {
-				continue
-			}
-			shear := make([]float64, n)
-			axis := true
-			for i := range v {
-				if i == p {
+			keptFamily := false
+			for _, w0 := range rayStarts(k) {
+				w, ok, isolated := solveRay(res, w0)
+				if !ok {
 					continue
 				}
-				shear[i] = niceRatio(v[i] / v[p])
-				axis = axis && shear[i] == 0
-			}
-			if axis {
-				continue
-			}
-			dup := false
-			for _, u := range seen {
-				same := true
-				for i := range u {
-					same = same && math.Abs(u[i]-v[i]/math.Abs(v[p])) < 1e-6
+				v := make([]float64, n)
+				v[p] = float64(sign)
+				shear := make([]float64, n)
+				axis := true
+				for q, j := range others {
+					shear[j] = niceRatio(w[q] * float64(sign))
+					v[j] = w[q]
+					axis = axis && shear[j] == 0
 				}
-				dup = dup || same
+				if axis {
+					continue
+				}
+				dup := false
+				for _, u := range seen {
+					same := true
+					for i := range u {
+						same = same && math.Abs(u[i]-v[i]) < 1e-6
+					}
+					dup = dup || same
+				}
+				if dup {
+					continue
+				}
+				if !isolated {
+					// A continuum of kept rays: one of them stands for all.
+					if keptFamily {
+						continue
+					}
+					keptFamily = true
+				}
+				seen = append(seen, v)
+				out = append(out, rayCharts(m, p, sign, shear)...)
 			}
-			if dup {
-				continue
-			}
-			seen = append(seen, v)
-			out = append(out, rayCharts(m, p, sign, shear)...)
 		}
 	}
 	return out
+}
+
+// rayStarts returns start points for the ray search in k dimensions.
+func rayStarts(k int) [][]float64 {
+	vals := []float64{0, 1, -1, 2, -2, 4, -4, 8, -8}
+	if k > 2 {
+		vals = []float64{0, 1, -1, 3, -3}
+	}
+	if k > 3 {
+		vals = []float64{0, 1, -1}
+	}
+	out := [][]float64{make([]float64, k)}
+	idx := make([]int, k)
+	for k > 0 {
+		a := 0
+		for a < k {
+			idx[a]++
+			if idx[a] < len(vals) {
+				break
+			}
+			idx[a] = 0
+			a++
+		}
+		if a == k {
+			break
+		}
+		w := make([]float64, k)
+		for q := range w {
+			w[q] = vals[idx[q]]
+		}
+		out = append(out, w)
+	}
+	return out
+}
+
+// solveRay runs damped Newton on res(w) = 0 and reports the root, whether
+// it converged, and whether the root is isolated (a regular Jacobian).
+func solveRay(res func(dst, w []float64) bool, w0 []float64) ([]float64, bool, bool) {
+	k := len(w0)
+	w := append([]float64(nil), w0...)
+	r := make([]float64, k)
+	if k == 0 {
+		return w, res(r, w), true
+	}
+	if !res(r, w) {
+		return nil, false, false
+	}
+	jac := mat.NewDense(k, k, nil)
+	rp := make([]float64, k)
+	wt := make([]float64, k)
+	norm := func(v []float64) float64 { return maxAbs(v) }
+	for it := 0; it < 40; it++ {
+		if norm(r) < 1e-11 {
+			break
+		}
+		for q := 0; q < k; q++ {
+			h := 1e-6 * (1 + math.Abs(w[q]))
+			copy(wt, w)
+			wt[q] += h
+			if !res(rp, wt) {
+				return nil, false, false
+			}
+			for i := 0; i < k; i++ {
+				jac.Set(i, q, (rp[i]-r[i])/h)
+			}
+		}
+		var svd mat.SVD
+		if !finiteMatrix(jac) || !svd.Factorize(jac, mat.SVDThin) {
+			return nil, false, false
+		}
+		step := mat.NewVecDense(k, nil)
+		rv := mat.NewVecDense(k, r)
+		vals := svd.Values(nil)
+		var u, v mat.Dense
+		svd.UTo(&u)
+		svd.VTo(&v)
+		for q := range vals {
+			if vals[q] > 1e-9*math.Max(1, vals[0]) {
+				step.AddScaledVec(step, -mat.Dot(u.ColView(q), rv)/vals[q], v.ColView(q))
+			}
+		}
+		alpha := 1.0
+		moved := false
+		for ls := 0; ls < 20; ls++ {
+			for q := range wt {
+				wt[q] = w[q] + alpha*step.AtVec(q)
+			}
+			if res(rp, wt) && norm(rp) < norm(r) {
+				copy(w, wt)
+				copy(r, rp)
+				moved = true
+				break
+			}
+			alpha /= 2
+		}
+		if !moved || maxAbs(w) > 1e3 {
+			break
+		}
+	}
+	if norm(r) > 1e-9 {
+		return nil, false, false
+	}
+	// Isolated if the Jacobian of res is regular at the root.
+	for q := 0; q < k; q++ {
+		h := 1e-6 * (1 + math.Abs(w[q]))
+		copy(wt, w)
+		wt[q] += h
+		if !res(rp, wt) {
+			return w, true, false
+		}
+		for i := 0; i < k; i++ {
+			jac.Set(i, q, (rp[i]-r[i])/h)
+		}
+	}
+	var svd mat.SVD
+	if !finiteMatrix(jac) || !svd.Factorize(jac, mat.SVDThin) {
+		return w, true, false
+	}
+	vals := svd.Values(nil)
+	return w, true, vals[len(vals)-1] > 1e-6*math.Max(1, vals[0])
 }
 
 // rayCharts returns the ray chart and its faces: each transverse coupling
@@ -467,11 +618,19 @@ func rayCharts(m Map, p, sign int, shear []float64) []*chart {
 		}
 		inf[i] = 0
 		rec(i + 1)
-		if cs[i].Symmetric && cs[i].Plus != nil {
+		// A transverse coupling may sit at an infinity of its own only in
+		// the direction the ray already sends it (it then runs off faster
+		// than the ray); the other way, the combination's infinity says
+		// nothing about the coupling itself (∞ − ∞).
+		along := 0
+		if shear[i] != 0 {
+			along = sign * int(math.Copysign(1, shear[i]))
+		}
+		if cs[i].Symmetric && cs[i].Plus != nil && along >= 0 {
 			inf[i] = 1
 			rec(i + 1)
 		}
-		if cs[i].Symmetric && cs[i].Minus != nil {
+		if cs[i].Symmetric && cs[i].Minus != nil && along <= 0 {
 			inf[i] = -1
 			rec(i + 1)
 		}

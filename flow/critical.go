@@ -14,6 +14,21 @@ type Phase struct {
 	Index int    // the engine's index of the phase; −1 when undecided
 	Label string // e.g. "K=0, h=0"
 	Steps int    // steps taken to decide
+	// Signature lists the couplings at infinity with their signs, e.g.
+	// "J=+inf, K=-inf"; Runaway marks a flow that ran off to infinity
+	// without meeting a known sink.
+	Signature string
+	Runaway   bool
+}
+
+// Same reports whether two outcomes are the same phase: the same label, or
+// a runaway flow and a sink (or another runaway) with the same couplings
+// at the same infinities.
+func (p Phase) Same(q Phase) bool {
+	if p.Label == q.Label {
+		return true
+	}
+	return (p.Runaway || q.Runaway) && p.Signature != "" && p.Signature == q.Signature
 }
 
 // Phaser decides which phase a point flows to. Map engines get one from
@@ -92,7 +107,7 @@ func (sp *SinkPhases) Phase(ctx context.Context, x []float64) Phase {
 		}
 		for k, i := range sp.sinks {
 			if (sp.stable[k] || (sym && sp.symOnly[k])) && sp.points[i].Distance(cur) <= sp.Capture {
-				return Phase{Index: i, Label: sp.points[i].Place(sp.m), Steps: step}
+				return sp.sinkPhase(i, step)
 			}
 		}
 		sp.m.Step(next, cur)
@@ -113,7 +128,7 @@ func (sp *SinkPhases) Phase(ctx context.Context, x []float64) Phase {
 		for _, i := range sp.sinks {
 			p := sp.points[i]
 			if p.Distance(cur) < 1e-3 && maxDiff(p.Coords(next), p.Coords(cur)) < 1e-13 {
-				return Phase{Index: i, Label: p.Place(sp.m), Steps: step}
+				return sp.sinkPhase(i, step)
 			}
 		}
 		cur, next = next, cur
@@ -130,7 +145,7 @@ func (sp *SinkPhases) Phase(ctx context.Context, x []float64) Phase {
 		}
 	}
 	if best >= 0 {
-		return Phase{Index: best, Label: sp.points[best].Place(sp.m), Steps: sp.MaxSteps}
+		return sp.sinkPhase(best, sp.MaxSteps)
 	}
 	if escaped {
 		var parts []string
@@ -143,7 +158,8 @@ func (sp *SinkPhases) Phase(ctx context.Context, x []float64) Phase {
 				parts = append(parts, c.Name+"="+sign)
 			}
 		}
-		return Phase{Index: -2, Label: "runs off to " + strings.Join(parts, ", "), Steps: sp.MaxSteps}
+		sig := strings.Join(parts, ", ")
+		return Phase{Index: -2, Label: "runs off to " + sig, Steps: sp.MaxSteps, Signature: sig, Runaway: true}
 	}
 	return Phase{Index: -1, Label: "undecided", Steps: sp.MaxSteps}
 }
@@ -174,6 +190,20 @@ func saturate(x []float64) {
 	if len(big) == 1 && len(x) > 1 {
 		x[big[0]] = math.Copysign(saturateAt, x[big[0]])
 	}
+}
+
+func (sp *SinkPhases) sinkPhase(i, steps int) Phase {
+	p := sp.points[i]
+	var parts []string
+	for j, c := range sp.cs {
+		switch {
+		case p.Inf[j] > 0:
+			parts = append(parts, c.Name+"=+inf")
+		case p.Inf[j] < 0:
+			parts = append(parts, c.Name+"=-inf")
+		}
+	}
+	return Phase{Index: i, Label: p.Place(sp.m), Steps: steps, Signature: strings.Join(parts, ", ")}
 }
 
 func maxDiff(a, b []float64) float64 {
@@ -303,7 +333,7 @@ func Crossings(ctx context.Context, ph Phaser, path Path, s *CrossingSettings) (
 	}
 	var out []Crossing
 	for i := 1; i < ns; i++ {
-		if phs[i].Label == phs[i-1].Label {
+		if phs[i].Same(phs[i-1]) {
 			continue
 		}
 		a, b := vals[i-1], vals[i]
@@ -317,7 +347,7 @@ func Crossings(ctx context.Context, ph Phaser, path Path, s *CrossingSettings) (
 			if ctx.Err() != nil {
 				return out, ErrCanceled
 			}
-			if pm.Label == pa.Label {
+			if pm.Same(pa) {
 				a, pa = mid, pm
 			} else {
 				b, pb = mid, pm
