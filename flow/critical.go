@@ -19,14 +19,22 @@ type Phase struct {
 	// without meeting a known sink.
 	Signature string
 	Runaway   bool
+	// Breaking lists the symmetry-breaking couplings at infinity, e.g.
+	// "h=+inf": a field-dominated phase.
+	Breaking string
 }
 
-// Same reports whether two outcomes are the same phase: the same label, or
-// a runaway flow and a sink (or another runaway) with the same couplings
-// at the same infinities.
+// Same reports whether two outcomes are the same phase: the same label; or
+// both dominated by the same symmetry-breaking couplings at the same
+// infinities (a field-dominated phase, where the symmetric couplings are
+// redundant); or a runaway flow and a sink (or another runaway) with the
+// same couplings at the same infinities.
 func (p Phase) Same(q Phase) bool {
 	if p.Label == q.Label {
 		return true
+	}
+	if p.Breaking != "" || q.Breaking != "" {
+		return p.Breaking == q.Breaking
 	}
 	return (p.Runaway || q.Runaway) && p.Signature != "" && p.Signature == q.Signature
 }
@@ -125,7 +133,10 @@ func (sp *SinkPhases) Phase(ctx context.Context, x []float64) Phase {
 		if bad {
 			break
 		}
-		for _, i := range sp.sinks {
+		for k, i := range sp.sinks {
+			if !(sp.stable[k] || (sym && sp.symOnly[k])) {
+				continue // a relevant direction may still carry the flow away
+			}
 			p := sp.points[i]
 			if p.Distance(cur) < 1e-3 && maxDiff(p.Coords(next), p.Coords(cur)) < 1e-13 {
 				return sp.sinkPhase(i, step)
@@ -159,7 +170,14 @@ func (sp *SinkPhases) Phase(ctx context.Context, x []float64) Phase {
 			}
 		}
 		sig := strings.Join(parts, ", ")
-		return Phase{Index: -2, Label: "runs off to " + sig, Steps: sp.MaxSteps, Signature: sig, Runaway: true}
+		var brk []string
+		for i, c := range sp.cs {
+			if !c.Symmetric && math.Abs(cur[i]) > saturateOthers {
+				brk = append(brk, c.Name+map[bool]string{true: "=+inf", false: "=-inf"}[cur[i] > 0])
+			}
+		}
+		return Phase{Index: -2, Label: "runs off to " + sig, Steps: sp.MaxSteps, Signature: sig, Runaway: true,
+			Breaking: strings.Join(brk, ", ")}
 	}
 	return Phase{Index: -1, Label: "undecided", Steps: sp.MaxSteps}
 }
@@ -194,16 +212,23 @@ func saturate(x []float64) {
 
 func (sp *SinkPhases) sinkPhase(i, steps int) Phase {
 	p := sp.points[i]
-	var parts []string
+	var parts, brk []string
 	for j, c := range sp.cs {
+		v := ""
 		switch {
 		case p.Inf[j] > 0:
-			parts = append(parts, c.Name+"=+inf")
+			v = c.Name + "=+inf"
 		case p.Inf[j] < 0:
-			parts = append(parts, c.Name+"=-inf")
+			v = c.Name + "=-inf"
+		default:
+			continue
+		}
+		parts = append(parts, v)
+		if !c.Symmetric {
+			brk = append(brk, v)
 		}
 	}
-	return Phase{Index: i, Label: p.Place(sp.m), Steps: steps, Signature: strings.Join(parts, ", ")}
+	return Phase{Index: i, Label: p.Place(sp.m), Steps: steps, Signature: strings.Join(parts, ", "), Breaking: strings.Join(brk, ", ")}
 }
 
 func maxDiff(a, b []float64) float64 {
@@ -264,6 +289,10 @@ const (
 	UnknownKind TransitionKind = iota
 	Continuous                 // controlled by a critical or multicritical point
 	FirstOrder                 // controlled by a discontinuity fixed point
+	// OneBodyArtefact: controlled by a sink at zero two-site couplings
+	// whose one-body field is relevant (bond moving makes the field
+	// relevant at the disordered sink): not a transition of the model.
+	OneBodyArtefact
 )
 
 func (k TransitionKind) String() string {
@@ -272,6 +301,8 @@ func (k TransitionKind) String() string {
 		return "continuous"
 	case FirstOrder:
 		return "first order"
+	case OneBodyArtefact:
+		return "artefact: a field relevant at the disordered sink by construction of the scheme"
 	}
 	return "undetermined"
 }
@@ -371,13 +402,55 @@ func Crossings(ctx context.Context, ph Phaser, path Path, s *CrossingSettings) (
 					c.Kind = FirstOrder
 				case fp.Kind == Critical || fp.Kind == Multicritical:
 					c.Kind = Continuous
+				case fp.Kind == Sink && oneBodyRelevant(fp):
+					c.Kind = OneBodyArtefact
 				}
 			}
 		}
 		out = append(out, c)
 	}
 	sort.Slice(out, func(i, j int) bool { return out[i].Value < out[j].Value })
-	return out, nil
+	return mergeIsolated(out, tol), nil
+}
+
+// mergeIsolated joins two crossings that enclose a single phase no wider
+// than a few tolerances (a path sample sitting exactly on a coexistence
+// line, such as h = 0 below T_c): they are one transition.
+func mergeIsolated(xs []Crossing, tol float64) []Crossing {
+	var out []Crossing
+	for i := 0; i < len(xs); i++ {
+		c := xs[i]
+		if i+1 < len(xs) {
+			d := xs[i+1]
+			if d.Bracket[0]-c.Bracket[1] <= 4*tol && c.Above.Same(d.Below) && !c.Below.Same(d.Above) {
+				m := c
+				m.Bracket = [2]float64{c.Bracket[0], d.Bracket[1]}
+				m.Value = (m.Bracket[0] + m.Bracket[1]) / 2
+				m.Above = d.Above
+				if m.Kind == UnknownKind {
+					m.Kind, m.Controlling = d.Kind, d.Controlling
+				}
+				out = append(out, m)
+				i++
+				continue
+			}
+		}
+		out = append(out, c)
+	}
+	return out
+}
+
+func oneBodyRelevant(p FixedPoint) bool {
+	found := false
+	for _, d := range p.Directions {
+		if d.Relevance == Relevant {
+			if !d.OneBody {
+				return false
+			}
+			found = true
+		}
+	}
+	return found
 }
 
 func dimOf(ph Phaser) int {

@@ -353,9 +353,6 @@ func runSweep(ctx context.Context, b *built, sp *flow.SinkPhases, along rangeSpe
 	primary := func(xs []flow.Crossing, near float64) (flow.Crossing, bool) {
 		best, bd := -1, math.Inf(1)
 		for i, c := range xs {
-			if c.Kind == flow.UnknownKind {
-				continue
-			}
 			d := math.Abs(c.Value - near)
 			if math.IsNaN(near) {
 				d = c.Value
@@ -377,9 +374,11 @@ func runSweep(ctx context.Context, b *built, sp *flow.SinkPhases, along rangeSpe
 		if !ok {
 			continue
 		}
-		if prev != nil && prev.Kind != c.Kind {
+		// The line changes where the transition stops being continuous
+		// (a first-order or an undetermined crossing on the other side).
+		if prev != nil && (prev.Kind == flow.Continuous) != (c.Kind == flow.Continuous) {
 			a, bb := prevSweep, row.Value
-			ka := prev.Kind
+			ka := prev.Kind == flow.Continuous
 			va, vb := prev.Value, c.Value
 			for k := 0; k < 40 && math.Abs(bb-a) > 1e-6*(1+math.Abs(a)); k++ {
 				mid := (a + bb) / 2
@@ -391,7 +390,7 @@ func runSweep(ctx context.Context, b *built, sp *flow.SinkPhases, along rangeSpe
 				if !ok {
 					break
 				}
-				if cm.Kind == ka {
+				if (cm.Kind == flow.Continuous) == ka {
 					a, va = mid, cm.Value
 				} else {
 					bb, vb = mid, cm.Value

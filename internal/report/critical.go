@@ -275,7 +275,11 @@ func CriticalText(w io.Writer, d CriticalDoc) error {
 	}
 	for k, c := range d.Crossings {
 		dig := Digits(c.Value, d.Tolerance)
-		fmt.Fprintf(&b, "\n[%d] %s transition\n", k+1, c.Kind)
+		if c.Kind == flow.OneBodyArtefact {
+			fmt.Fprintf(&b, "\n[%d] not a phase transition: %s\n", k+1, c.Kind)
+		} else {
+			fmt.Fprintf(&b, "\n[%d] %s transition\n", k+1, c.Kind)
+		}
 		if d.Temperature {
 			e := d.Map.Couplings()[exchange(d.Map)].Name
 			fmt.Fprintf(&b, "    kT_c/J    = %s%s\n", Text(c.Value, dig), ordText)
