@@ -405,12 +405,66 @@ func Crossings(ctx context.Context, ph Phaser, path Path, s *CrossingSettings) (
 				case fp.Kind == Sink && oneBodyRelevant(fp):
 					c.Kind = OneBodyArtefact
 				}
+				if c.Kind == Continuous {
+					if v, ok := sp.refine(ctx, path, c, fp, tol); ok {
+						c.Value, c.Refined = v, true
+					}
+				}
 			}
 		}
 		out = append(out, c)
 	}
 	sort.Slice(out, func(i, j int) bool { return out[i].Value < out[j].Value })
 	return mergeIsolated(out, tol), nil
+}
+
+// refine sharpens a continuous crossing with the thermal scaling field of
+// the controlling fixed point: flowing both bracket ends n steps, to where
+// the flow sits nearest the point, the linear scaling field u = l·(y − y*)
+// is linear in the path variable near the crossing and vanishes on the
+// critical surface, so a secant on u gives the crossing. The result is
+// kept only if it lies inside the bracket.
+func (sp *SinkPhases) refine(ctx context.Context, path Path, c Crossing, fp FixedPoint, tol float64) (float64, bool) {
+	field, _, ok := LeadingField(fp)
+	if !ok {
+		return 0, false
+	}
+	n := len(fp.X)
+	a, b := c.Bracket[0], c.Bracket[1]
+	// Find the step at which the flow from the middle is nearest fp.
+	x := make([]float64, n)
+	next := make([]float64, n)
+	path.Point(x, (a+b)/2)
+	bestN, bestD := 0, math.Inf(1)
+	for k := 0; k < 200; k++ {
+		if d := fp.Distance(x); d < bestD {
+			bestN, bestD = k, d
+		}
+		sp.m.Step(next, x)
+		x, next = next, x
+	}
+	if bestD > 1e-2 {
+		return 0, false
+	}
+	u := func(s float64) float64 {
+		y := make([]float64, n)
+		path.Point(y, s)
+		z := make([]float64, n)
+		for k := 0; k < bestN; k++ {
+			sp.m.Step(z, y)
+			y, z = z, y
+		}
+		return real(ScalingFieldValue(fp, field, y))
+	}
+	ua, ub := u(a), u(b)
+	if ua == ub || math.IsNaN(ua) || math.IsNaN(ub) || (ua > 0) == (ub > 0) {
+		return 0, false
+	}
+	v := a - ua*(b-a)/(ub-ua)
+	if !(v >= a && v <= b) {
+		return 0, false
+	}
+	return v, true
 }
 
 // mergeIsolated joins two crossings that enclose a single phase no wider

@@ -51,6 +51,19 @@ func TestBadInput(t *testing.T) {
 		{[]string{"trace", "--from", "K=1", "--steps", "-1"}, []string{"--steps"}},
 		{[]string{"trace", "--model", "potts", "--set", "q=2.5", "--from", "h=1"}, []string{"no coupling", "h", "integer q >= 2"}},
 		{[]string{"nosuch"}, []string{"unknown command"}},
+		{[]string{"critical"}, []string{"--along"}},
+		{[]string{"critical", "--along", "T=0:3"}, []string{"> 0"}},
+		{[]string{"critical", "--along", "T=1"}, []string{"FROM:TO"}},
+		{[]string{"critical", "--along", "Q=1:2"}, []string{"no coupling", "T"}},
+		{[]string{"critical", "--along", "T=1:2", "--at", "K=1"}, []string{"exchange"}},
+		{[]string{"critical", "--along", "T=1:2", "--at", "x=1"}, []string{"no coupling"}},
+		{[]string{"critical", "--along", "T=1:2", "--tol", "0"}, []string{"--tol"}},
+		{[]string{"critical", "--along", "T=1:2", "--samples", "1"}, []string{"--samples"}},
+		{[]string{"critical", "--model", "potts", "--set", "q=0.5", "--along", "K=-3:-1"}, []string{"physical domain"}},
+		{[]string{"fixed", "--scheme", "bondmove", "--set", "d=0.5"}, []string{"d=0.5", ">= 1"}},
+		{[]string{"fixed", "--scheme", "bondmove", "--set", "b=2.5"}, []string{"b=2.5", "whole"}},
+		{[]string{"fixed", "--scheme", "bondmove", "--set", "order=sideways"}, []string{"move-first", "decimate-first"}},
+		{[]string{"fixed", "--scheme", "hierarchical", "--set", "m=0"}, []string{"m=0", ">= 1"}},
 	}
 	for _, c := range cases {
 		code, out, errs := run(c.args...)
@@ -185,5 +198,77 @@ func TestDefaultReport(t *testing.T) {
 	code, out, _ := run()
 	if code != 0 || !strings.Contains(out, "critical") || !strings.Contains(out, "exp(-2K)") {
 		t.Errorf("scalewalk with no arguments: exit %d, output %q", code, out)
+	}
+}
+
+// critical on a temperature path for the d = 2, b = 2 bond-moving Ising
+// map: one continuous crossing at kT_c/J = 1/K*, with K* the fixed point
+// of tanh K' = tanh^2(2K) (R. K. Pathria, P. D. Beale, Statistical
+// Mechanics, ch. 14), solved here by bisection of the closed form, to 1e-9.
+func TestCriticalBondMoveIsing(t *testing.T) {
+	code, out, errs := run("critical", "--model", "ising", "--scheme", "bondmove", "--set", "d=2", "--along", "T=1:5", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc struct {
+		Order       string `json:"order"`
+		Transitions []struct {
+			Value   float64  `json:"value"`
+			Kind    string   `json:"kind"`
+			KT      *float64 `json:"kT_over_J"`
+			Bracket []float64
+			Ctl     *struct {
+				Kind string `json:"kind"`
+			} `json:"controlling_fixed_point"`
+		} `json:"transitions"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	lo, hi := 0.2, 0.5 // K' - K changes sign once here
+	f := func(k float64) float64 { return math.Atanh(math.Pow(math.Tanh(2*k), 2)) - k }
+	for i := 0; i < 200; i++ {
+		mid := (lo + hi) / 2
+		if f(mid) < 0 {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	kstar := (lo + hi) / 2
+	if len(doc.Transitions) != 1 {
+		t.Fatalf("%d transitions, want 1", len(doc.Transitions))
+	}
+	tr := doc.Transitions[0]
+	if tr.Kind != "continuous" || tr.KT == nil || tr.Ctl == nil || tr.Ctl.Kind != "critical" {
+		t.Errorf("transition %+v, want continuous, controlled by the critical point", tr)
+	}
+	if math.Abs(1/tr.Value-kstar) > 1e-9 {
+		t.Errorf("1/T_c = %.12f, want K* = %.12f", 1/tr.Value, kstar)
+	}
+	if doc.Order != "move-first" {
+		t.Errorf("order %q, want move-first printed beside T_c", doc.Order)
+	}
+}
+
+// Below T_c the field path crosses one first-order line at h = 0,
+// controlled by the discontinuity fixed point at K = +inf (y_h = d;
+// B. Nienhuis, M. Nauenberg, PRL 35, 477, 1975, from memory).
+func TestCriticalFirstOrderInField(t *testing.T) {
+	code, out, errs := run("critical", "--model", "ising", "--scheme", "bondmove", "--along", "h=-1:1.1", "--at", "K=0.5", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc struct {
+		Transitions []struct {
+			Value float64 `json:"value"`
+			Kind  string  `json:"kind"`
+		} `json:"transitions"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Transitions) != 1 || doc.Transitions[0].Kind != "first order" || math.Abs(doc.Transitions[0].Value) > 1e-9 {
+		t.Errorf("transitions %+v, want one first-order transition at h = 0", doc.Transitions)
 	}
 }

@@ -294,7 +294,7 @@ func runCritical(ctx context.Context, o *options, b *built, along rangeSpec, at 
 		return err
 	}
 	doc := report.CriticalDoc{Meta: b.meta, Map: b.m, Path: path, Temperature: temp, At: at, Tolerance: tol,
-		Cautions: cautions(b.m)}
+		Cautions: b.meta.Cautions}
 	var xs []flow.Crossing
 	if err := safely(func() error {
 		var e error

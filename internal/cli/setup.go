@@ -137,7 +137,7 @@ func (o *options) build() (*built, error) {
 	for k, v := range sv {
 		params[k] = v
 	}
-	return &built{m: m, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: params}, model: model}, nil
+	return &built{m: m, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: params, Cautions: cautions(m)}, model: model}, nil
 }
 
 func hasParam(ps []decimation.Param, n string) bool {

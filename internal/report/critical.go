@@ -75,6 +75,7 @@ type TransitionJSON struct {
 	Phases      map[string]string  `json:"phases"`
 	Order       string             `json:"order,omitempty"`
 	Digits      int                `json:"significant_digits"`
+	Refined     bool               `json:"refined_by_scaling_field"`
 	Extra       map[string]float64 `json:"-"`
 }
 
@@ -144,7 +145,7 @@ func (d CriticalDoc) transition(c flow.Crossing) TransitionJSON {
 		Coupling: d.Path.Name, Value: Num(c.Value), Bracket: [2]Num{Num(c.Bracket[0]), Num(c.Bracket[1])},
 		Kind: c.Kind.String(), Point: map[string]Num{},
 		Phases: map[string]string{"below": c.Below.Label, "above": c.Above.Label},
-		Order:  order(d.Meta), Digits: Digits(c.Value, d.Tolerance),
+		Order:  order(d.Meta), Digits: Digits(c.Value, d.Tolerance), Refined: c.Refined,
 	}
 	x := make([]float64, len(d.Map.Couplings()))
 	d.Path.Point(x, c.Value)
@@ -287,7 +288,11 @@ func CriticalText(w io.Writer, d CriticalDoc) error {
 		} else {
 			fmt.Fprintf(&b, "    %s_c = %s%s (kT_c/J applies only on a temperature path)\n", d.Path.Name, Text(c.Value, dig), ordText)
 		}
-		fmt.Fprintf(&b, "    bracket   [%s, %s]\n", Text(c.Bracket[0], 17), Text(c.Bracket[1], 17))
+		fmt.Fprintf(&b, "    bracket   [%s, %s]", Text(c.Bracket[0], 17), Text(c.Bracket[1], 17))
+		if c.Refined {
+			b.WriteString("; value refined inside it by the thermal scaling field (left eigenvector) of the controlling point")
+		}
+		b.WriteString("\n")
 		x := make([]float64, len(d.Map.Couplings()))
 		d.Path.Point(x, c.Value)
 		var pt []string

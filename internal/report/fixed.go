@@ -14,9 +14,10 @@ import (
 
 // Meta identifies what a report is about.
 type Meta struct {
-	Model  string
-	Scheme string
-	Params map[string]any // model and scheme parameters, resolved
+	Model    string
+	Scheme   string
+	Params   map[string]any // model and scheme parameters, resolved
+	Cautions []string       // warnings the scheme attaches to its results
 }
 
 // Coupling is a coupling as listed in reports.
@@ -82,6 +83,7 @@ type FixedJSON struct {
 	Couplings   []Coupling       `json:"couplings"`
 	FixedPoints []FixedPointJSON `json:"fixed_points"`
 	Search      SearchJSON       `json:"search"`
+	Cautions    []string         `json:"cautions"`
 }
 
 // SearchJSON records the work of the search.
@@ -116,6 +118,7 @@ func Fixed(meta Meta, m flow.Map, res *flow.FindResult) FixedJSON {
 		B: Num(m.Rescale()), D: Num(m.Dimension()), Symmetry: symmetry(m),
 		Couplings:   Couplings(m),
 		FixedPoints: []FixedPointJSON{},
+		Cautions:    append([]string{}, meta.Cautions...),
 		Search: SearchJSON{res.Stats.Charts, res.Stats.Starts, res.Stats.Converged, res.Stats.Dropped,
 			Num(float64(res.Stats.Runtime.Microseconds()) / 1000)},
 	}
@@ -205,6 +208,9 @@ func FixedText(w io.Writer, meta Meta, m flow.Map, res *flow.FindResult) error {
 	fmt.Fprintf(&b, "couplings: %s\n", strings.Join(names, ", "))
 	if sym := symmetry(m); sym != "" {
 		fmt.Fprintf(&b, "symmetry: %s\n", sym)
+	}
+	for _, c := range meta.Cautions {
+		fmt.Fprintf(&b, "CAUTION: %s\n", c)
 	}
 	fmt.Fprintf(&b, "%d fixed point(s) found (%d charts, %d starts, %d converged, %.1f ms)\n",
 		len(res.Points), res.Stats.Charts, res.Stats.Starts, res.Stats.Converged, float64(res.Stats.Runtime.Microseconds())/1000)
