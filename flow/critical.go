@@ -52,9 +52,9 @@ type SinkPhases struct {
 	m        Map
 	cs       []Coupling
 	points   []FixedPoint
-	sinks    []int  // indices into points
-	stable   []bool // no relevant direction at all
-	symOnly  []bool // relevant directions only symmetry-breaking ones
+	sinks    []int   // indices into points
+	stable   []bool  // no relevant direction at all
+	symOnly  []bool  // relevant directions only symmetry-breaking ones
 	MaxSteps int     // default 600
 	Capture  float64 // distance within which a sink captures; default 1e-6
 }
@@ -183,9 +183,9 @@ func (sp *SinkPhases) Phase(ctx context.Context, x []float64) Phase {
 }
 
 const (
-	saturateAt     = 300  // a coupling alone beyond this is held there
-	saturateOthers = 30   // ... when every other coupling is below this
-	escapeAt       = 1e5  // beyond this the flow has run off to infinity
+	saturateAt     = 300 // a coupling alone beyond this is held there
+	saturateOthers = 30  // ... when every other coupling is below this
+	escapeAt       = 1e5 // beyond this the flow has run off to infinity
 )
 
 // saturate holds at ±saturateAt a coupling that runs off alone (every
