@@ -205,6 +205,41 @@ func (c *chart) direct(dst, y []float64) {
 	c.toY(dst, xp)
 }
 
+// evalFast evaluates the map in chart coordinates with face coordinates at
+// 0 replaced by limitEps (limitEpsSafe if that overflows): one evaluation,
+// exact to O(limitEps) where the map is analytic in u. Newton iterations use
+// it; the extrapolated [chart.eval] checks the limit at the end.
+func (c *chart) evalFast(dst, y []float64) {
+	zero := false
+	for _, i := range c.face {
+		if y[i] <= 0 {
+			zero = true
+			break
+		}
+	}
+	if !zero {
+		c.direct(dst, y)
+		return
+	}
+	yy := make([]float64, len(y))
+	for _, eps := range []float64{limitEps, limitEpsSafe} {
+		copy(yy, y)
+		for _, i := range c.face {
+			if yy[i] <= 0 {
+				yy[i] = eps
+			}
+		}
+		c.direct(dst, yy)
+		finite := true
+		for _, v := range dst {
+			finite = finite && !math.IsNaN(v) && !math.IsInf(v, 0)
+		}
+		if finite {
+			return
+		}
+	}
+}
+
 // limitEps is the smallest compactified coordinate used to approach u = 0;
 // limitEpsSafe is the fallback for maps that overflow that far out.
 const (

@@ -237,13 +237,24 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
+	var panicked error
+	var pmu sync.Mutex
 	for w := 0; w < workers; w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			for k := range work {
-				pts, st, cv := searchChart(ctx, cs[k], s)
-				results[k] = chartOut{pts, st, cv}
+				func() {
+					defer func() {
+						if r := recover(); r != nil {
+							pmu.Lock()
+							panicked = fmt.Errorf("flow: internal error in chart %s: %v", cs[k].name(), r)
+							pmu.Unlock()
+						}
+					}()
+					pts, st, cv := searchChart(ctx, cs[k], s)
+					results[k] = chartOut{pts, st, cv}
+				}()
 			}
 		}()
 	}
@@ -255,6 +266,9 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 	}
 	close(work)
 	wg.Wait()
+	if panicked != nil {
+		return out, panicked
+	}
 	var pts []found
 	for _, r := range results {
 		pts = append(pts, r.pts...)

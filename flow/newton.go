@@ -20,18 +20,35 @@ type newtonResult struct {
 // free coordinates: the map's analytic Jacobian in the finite chart, plain
 // central differences otherwise (Newton needs no more).
 func (c *chart) newtonJac(jac *mat.Dense, y, fy []float64) {
-	k := len(c.free)
 	n := len(y)
-	if jm, ok := c.m.(Jacobianer); ok && len(c.face) == 0 {
-		full := mat.NewDense(n, n, nil)
-		jm.JacobianTo(full, y)
-		for a := 0; a < k; a++ {
-			for b := 0; b < k; b++ {
-				jac.Set(a, b, full.At(c.free[a], c.free[b]))
+	if jm, ok := c.m.(Jacobianer); ok {
+		// The map's own Jacobian, taken on the face at u = ε: the free
+		// coordinates are the couplings themselves, less the shear along
+		// the pivot on a ray chart (x_p does not move with them), so
+		// ∂y′ᵢ/∂yⱼ = ∂x′ᵢ/∂xⱼ − sᵢ ∂x′_p/∂xⱼ.
+		x := make([]float64, n)
+		ye := append([]float64(nil), y...)
+		for _, i := range c.face {
+			if ye[i] <= 0 {
+				ye[i] = limitEps
 			}
-			jac.Set(a, a, jac.At(a, a)-1)
 		}
-		return
+		c.toX(x, ye)
+		full := mat.NewDense(n, n, nil)
+		jm.JacobianTo(full, x)
+		if finiteMatrix(full) {
+			for a, i := range c.free {
+				for b, j := range c.free {
+					v := full.At(i, j)
+					if c.shear != nil {
+						v -= c.shear[i] * full.At(c.pivot, j)
+					}
+					jac.Set(a, b, v)
+				}
+				jac.Set(a, a, jac.At(a, a)-1)
+			}
+			return
+		}
 	}
 	yp := append([]float64(nil), y...)
 	fp := make([]float64, n)
@@ -39,9 +56,9 @@ func (c *chart) newtonJac(jac *mat.Dense, y, fy []float64) {
 	for b, j := range c.free {
 		h := 1e-6 * (1 + math.Abs(y[j]))
 		yp[j] = y[j] + h
-		c.eval(fp, yp)
+		c.evalFast(fp, yp)
 		yp[j] = y[j] - h
-		c.eval(fm, yp)
+		c.evalFast(fm, yp)
 		yp[j] = y[j]
 		for a, i := range c.free {
 			jac.Set(a, b, (fp[i]-fm[i])/(2*h))
@@ -52,7 +69,7 @@ func (c *chart) newtonJac(jac *mat.Dense, y, fy []float64) {
 
 // residual returns ‖R(y) − y‖∞ over the free coordinates, and fills fy.
 func (c *chart) residual(fy, y []float64) float64 {
-	c.eval(fy, y)
+	c.evalFast(fy, y)
 	var r float64
 	for _, i := range c.free {
 		d := math.Abs(fy[i] - y[i])
@@ -112,14 +129,14 @@ func (c *chart) solve(y0 []float64, s *FindSettings) newtonResult {
 			polish++
 		}
 		if math.IsInf(res, 0) {
-			return out
+			break
 		}
 		c.newtonJac(jac, y, fy)
 		for a, i := range c.free {
 			r.SetVec(a, fy[i]-y[i])
 		}
 		if !finiteMatrix(jac) || !svd.Factorize(jac, mat.SVDThin) {
-			return out
+			break
 		}
 		vals := svd.Values(nil)
 		rank := 0
@@ -129,7 +146,7 @@ func (c *chart) solve(y0 []float64, s *FindSettings) newtonResult {
 			}
 		}
 		if rank == 0 {
-			return out
+			break
 		}
 		var u, v mat.Dense
 		svd.UTo(&u)
@@ -171,6 +188,9 @@ func (c *chart) solve(y0 []float64, s *FindSettings) newtonResult {
 		}
 
 		if supNorm(y, c.free) > s.Escape {
+			out.ok = false
+			out.y = y
+			out.residual = res
 			return out
 		}
 	}
