@@ -181,3 +181,37 @@ func TestSpin1ZeroTemperature(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkCritical is a full `critical` run on the d = 2 bond-moving Ising
+// map: the fixed points, 64 samples of a temperature path and bisection to
+// 1e-10 with the refinement by the scaling field.
+func BenchmarkCritical(b *testing.B) {
+	bm, err := NewBondMove(NewIsing(), 2, 2, MoveFirst)
+	if err != nil {
+		b.Fatal(err)
+	}
+	path := flow.Path{Name: "T", From: 1, To: 5, Samples: 64, Point: func(dst []float64, t float64) {
+		dst[0], dst[1] = 1/t, 0
+	}}
+	b.ReportAllocs()
+	for b.Loop() {
+		r, _ := flow.FindAll(context.Background(), bm, &flow.FindSettings{Concurrent: 1})
+		sp := flow.NewSinkPhases(bm, r.Points)
+		xs, _ := flow.Crossings(context.Background(), sp, path, &flow.CrossingSettings{Tol: 1e-10})
+		sinkG = float64(len(xs))
+	}
+}
+
+// BenchmarkFindAllSpin1BondMove is the search for every fixed point of the
+// spin-1 bond-moving map (five couplings), with eigen-analysis, on one core.
+func BenchmarkFindAllSpin1BondMove(b *testing.B) {
+	bm, err := NewBondMove(NewSpin1(), 2, 2, MoveFirst)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		r, _ := flow.FindAll(context.Background(), bm, &flow.FindSettings{Concurrent: 1})
+		sinkG = float64(len(r.Points))
+	}
+}
