@@ -80,11 +80,13 @@ func Trace(m Map, x0 []float64, steps int, s *TraceSettings) *Trajectory {
 	for k := 0; ; k++ {
 		xp := make([]float64, n)
 		g := m.Step(xp, x)
-		bad := math.IsNaN(g) || math.IsInf(g, 0)
+		// A map may give no constant (g NaN, e.g. user formulas without
+		// one): only the couplings decide whether the step failed.
+		bad := false
 		for _, v := range xp {
 			bad = bad || math.IsNaN(v) || math.IsInf(v, 0)
 		}
-		if bad {
+		if bad || math.IsInf(g, 0) {
 			g = math.NaN()
 		}
 		t.Points = append(t.Points, TracePoint{X: x, G: g})
