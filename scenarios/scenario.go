@@ -52,12 +52,12 @@ type RecursionFile struct {
 
 // CouplingFile is one coupling of a user recursion.
 type CouplingFile struct {
-	Name      string        `toml:"name"`
-	Role      string        `toml:"role"`
-	Symmetric *bool         `toml:"symmetric"`
-	Next      string        `toml:"next"`
-	Plus      *CompactFile  `toml:"plus"`
-	Minus     *CompactFile  `toml:"minus"`
+	Name      string       `toml:"name"`
+	Role      string       `toml:"role"`
+	Symmetric *bool        `toml:"symmetric"`
+	Next      string       `toml:"next"`
+	Plus      *CompactFile `toml:"plus"`
+	Minus     *CompactFile `toml:"minus"`
 }
 
 // CompactFile is a compactified coordinate as two formulas.
