@@ -11,6 +11,8 @@ import (
 	"strings"
 
 	"github.com/spf13/cobra"
+
+	"scalewalk/scenarios"
 )
 
 // UsageError is bad input from the user: exit status 2.
@@ -68,8 +70,13 @@ lattice spin models (Ising, Potts, clock, spin-1): recursion relations,
 fixed points and their classification, eigenvalues and scaling exponents,
 and trajectories.
 
-With no command it prints the fixed-point report of the default model
-(the Ising chain in a field, exact decimation with b = 2).
+With no command it prints the fixed-point report of the default built-in
+scenario (` + "`monolayer`" + `, an invented adsorbed monolayer studied by bond moving).
+
+Every command that takes a model also takes a scenario: a TOML file, or the
+name of a built-in one ('scalewalk scenarios' lists them), which sets the
+model, the scheme and its parameters, a material's exchange energy, and,
+when no built-in engine fits, recursion relations written as formulas.
 
 Conventions: couplings are dimensionless (K = J/kT, h = H/kT); one RG step
 rescales lengths by b and returns g, the constant per site of the lattice
@@ -78,7 +85,7 @@ before the step, so that ln Z/N = sum over n of b^(-d n) g(x_n).`,
 		SilenceErrors: true,
 		Args:          cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			o := &options{model: defaultModel, scheme: defaultScheme}
+			o := &options{scenario: scenarios.DefaultScenario}
 			return runFixed(cmd.Context(), o, stdout)
 		},
 	}
@@ -86,6 +93,6 @@ before the step, so that ln Z/N = sum over n of b^(-d n) g(x_n).`,
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return usagef("%v (see '%s --help')", err, c.CommandPath())
 	})
-	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr), newCritical(stdout))
+	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr), newCritical(stdout), newScenarios(stdout))
 	return root
 }

@@ -42,7 +42,7 @@ exp(-2|h|)); the output names it, since exponents there depend on it.`
 func newFixed(stdout io.Writer) *cobra.Command {
 	o := &options{}
 	c := &cobra.Command{
-		Use:   "fixed [--model M] [--scheme S] [--set NAME=VALUE]... [--json|--csv]",
+		Use:   "fixed [SCENARIO] [--model M] [--scheme S] [--set NAME=VALUE]... [--json|--csv]",
 		Short: "find, linearize and classify every fixed point of a model's RG map",
 		Long: `fixed searches the map of the chosen model and scheme for every fixed point:
 damped Newton from many starts over the couplings, and on every face where
@@ -53,8 +53,11 @@ reported once, with their free couplings and range.
 		Example: `  scalewalk fixed --model ising --scheme chain --set b=2
   scalewalk fixed --model potts --set q=3 --set b=3 --json
   scalewalk fixed --model spin1 --csv`,
-		Args: cobra.NoArgs,
+		Args: cobra.MaximumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := o.takeArgs(cmd, args); err != nil {
+				return err
+			}
 			return runFixed(cmd.Context(), o, stdout)
 		},
 	}
@@ -98,7 +101,7 @@ func newTrace(stdout, stderr io.Writer) *cobra.Command {
 	var from string
 	var steps int
 	c := &cobra.Command{
-		Use:   "trace --from NAME=VALUE[,...] [--steps N] [--model M] [--scheme S] [--set NAME=VALUE]... [--json|--csv]",
+		Use:   "trace [SCENARIO] --from NAME=VALUE[,...] [--steps N] [--model M] [--scheme S] [--set NAME=VALUE]... [--json|--csv]",
 		Short: "follow the RG flow from a point, step by step",
 		Long: `trace iterates the map from the point given with --from (couplings not named
 are 0) and prints the trajectory: row 0 is the start, row n holds the
@@ -108,8 +111,11 @@ escapes to infinite coupling (|x| > 1000), leaves the physical domain, or
 produces NaN or Inf.`,
 		Example: `  scalewalk trace --model ising --scheme chain --set b=3 --from K=0.8,h=0.1 --steps 12 --csv
   scalewalk trace --model potts --set q=2.5 --from K=-0.3 --json`,
-		Args: cobra.NoArgs,
+		Args: cobra.MaximumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := o.takeArgs(cmd, args); err != nil {
+				return err
+			}
 			if err := o.checkFormat(); err != nil {
 				return err
 			}
@@ -123,7 +129,7 @@ produces NaN or Inf.`,
 			if err != nil {
 				return err
 			}
-			x, err := parsePoint("--from", from, b.m, b.model.Absent)
+			x, err := parsePoint("--from", from, b.m, b.absent)
 			if err != nil {
 				return err
 			}

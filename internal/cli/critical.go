@@ -13,6 +13,7 @@ import (
 
 	"scalewalk/flow"
 	"scalewalk/internal/report"
+	"scalewalk/scenarios"
 )
 
 // rangeSpec is NAME=FROM:TO[:N].
@@ -169,7 +170,7 @@ func newCritical(stdout io.Writer) *cobra.Command {
 	var samples int
 	var tol float64
 	c := &cobra.Command{
-		Use:   "critical --along NAME=FROM:TO[:N] [--at NAME=VALUE,...] [--samples N] [--tol T] [--sweep NAME=FROM:TO[:N]] [--model M] [--scheme S] [--set NAME=VALUE]... [--json|--csv]",
+		Use:   "critical [SCENARIO] --along NAME=FROM:TO[:N] [--at NAME=VALUE,...] [--samples N] [--tol T] [--sweep NAME=FROM:TO[:N]] [--model M] [--scheme S] [--set NAME=VALUE]... [--json|--csv]",
 		Short: "locate every transition along a path in coupling space or in temperature",
 		Long: `critical samples a path, follows the flow from every sample to the phase
 (sink) it reaches, and bisects every bracket whose ends reach different phases
@@ -201,8 +202,11 @@ where it has one (bond moving: move-first or decimate-first).`,
   scalewalk critical --model spin1 --scheme bondmove --set d=2 --set b=2 --along T=0.1:3 --at K=0,D=1.5
   scalewalk critical --model spin1 --scheme bondmove --along J=0.1:3 --at D=0.5 --json
   scalewalk critical --model spin1 --scheme bondmove --along T=0.1:3 --sweep D=0:2:9`,
-		Args: cobra.NoArgs,
+		Args: cobra.MaximumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := o.takeArgs(cmd, args); err != nil {
+				return err
+			}
 			if err := o.checkFormat(); err != nil {
 				return err
 			}
@@ -215,6 +219,15 @@ where it has one (bond moving: move-first or decimate-first).`,
 			b, err := o.build()
 			if err != nil {
 				return err
+			}
+			if b.scenario != nil && b.scenario.File.Path != nil {
+				// The scenario's default path, unless the flags give one.
+				if along == "" {
+					along = b.scenario.File.Path.Along
+					if !cmd.Flags().Changed("at") {
+						at = b.scenario.File.Path.At
+					}
+				}
 			}
 			atv, err := parseAt(at)
 			if err != nil {
@@ -295,6 +308,11 @@ func runCritical(ctx context.Context, o *options, b *built, along rangeSpec, at 
 	}
 	doc := report.CriticalDoc{Meta: b.meta, Map: b.m, Path: path, Temperature: temp, At: at, Tolerance: tol,
 		Cautions: b.meta.Cautions}
+	if b.material != nil {
+		doc.Material = &report.MaterialInfo{Name: b.material.Name, Exchange: b.material.Exchange, Unit: b.material.Unit,
+			Convention: b.material.Convention, ConventionHelp: scenarios.ConventionHelp(b.material.Convention),
+			JModelK: b.material.JModelK, Caution: scenarios.Caution(b.meta.Scheme)}
+	}
 	var xs []flow.Crossing
 	if err := safely(func() error {
 		var e error

@@ -7,11 +7,13 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
 	"scalewalk/decimation"
 	"scalewalk/flow"
 	"scalewalk/internal/report"
+	"scalewalk/scenarios"
 )
 
 const (
@@ -24,6 +26,20 @@ type options struct {
 	model, scheme string
 	set           []string
 	json, csv     bool
+	scenario      string // a scenario file or built-in name, from the argument
+	modelFlags    bool   // --model or --scheme was given
+}
+
+// takeArgs records the optional scenario argument.
+func (o *options) takeArgs(cmd *cobra.Command, args []string) error {
+	o.modelFlags = cmd.Flags().Changed("model") || cmd.Flags().Changed("scheme")
+	if len(args) == 1 {
+		if o.modelFlags {
+			return usagef("a scenario (%s) sets the model and scheme: give either the scenario or --model/--scheme", args[0])
+		}
+		o.scenario = args[0]
+	}
+	return nil
 }
 
 func (o *options) addModelFlags(fs *pflag.FlagSet) {
@@ -62,13 +78,82 @@ func schemeNames() []string {
 
 // built is a map with what the reports need to know about it.
 type built struct {
-	m     flow.Map
-	meta  report.Meta
-	model *decimation.Model
+	m        flow.Map
+	meta     report.Meta
+	model    *decimation.Model // nil for a user recursion
+	scenario *scenarios.Scenario
+	material *scenarios.Material
+}
+
+func (b *built) absent(name string) string {
+	if b.model == nil {
+		return ""
+	}
+	return b.model.Absent(name)
+}
+
+// setMap parses the --set list into NAME → VALUE.
+func (o *options) setMap() (map[string]string, error) {
+	out := map[string]string{}
+	for _, kv := range o.set {
+		name, val, ok := strings.Cut(kv, "=")
+		name = strings.TrimSpace(name)
+		if !ok || name == "" {
+			return nil, usagef("--set %q: expected NAME=VALUE, e.g. --set b=2", kv)
+		}
+		if strings.Contains(val, "=") {
+			return nil, usagef("--set %q: one NAME=VALUE per --set (repeat --set for more)", kv)
+		}
+		if _, dup := out[name]; dup {
+			return nil, usagef("--set %s given twice", name)
+		}
+		out[name] = val
+	}
+	return out, nil
+}
+
+// buildScenario loads the scenario and applies --set to its parameters.
+func (o *options) buildScenario() (*built, error) {
+	sc, err := scenarios.Load(o.scenario)
+	if err != nil {
+		return nil, usagef("%v", err)
+	}
+	set, err := o.setMap()
+	if err != nil {
+		return nil, err
+	}
+	// A coupling given to --set gets the usual pointer to --from.
+	if probe, err := sc.Build(nil); err == nil {
+		for name := range set {
+			if flow.Index(probe.Map, name) >= 0 {
+				return nil, usagef("--set %s: %s is a coupling, not a parameter; give couplings with --from (e.g. --from %s=0.5)", name, name, name)
+			}
+		}
+	}
+	b, err := sc.Build(set)
+	if err != nil {
+		return nil, usagef("%v", err)
+	}
+	out := &built{m: b.Map, scenario: sc,
+		meta: report.Meta{Model: b.Model, Scheme: b.Scheme, Params: b.Params, Cautions: cautions(b.Map), Scenario: sc.File.Scenario.Name}}
+	if b.Engine != nil {
+		out.model = b.Engine.Model
+	}
+	if mf := sc.File.Material; mf != nil {
+		mat, err := scenarios.MaterialFrom(mf)
+		if err != nil {
+			return nil, usagef("%s: %v", sc.Source, err)
+		}
+		out.material = mat
+	}
+	return out, nil
 }
 
 // build resolves the model, scheme and parameters into a map.
 func (o *options) build() (*built, error) {
+	if o.scenario != "" {
+		return o.buildScenario()
+	}
 	ms, err := decimation.LookupModel(o.model)
 	if err != nil {
 		return nil, usagef("%v", err)

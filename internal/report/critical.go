@@ -23,6 +23,42 @@ type CriticalDoc struct {
 	Points      []flow.FixedPoint
 	Sweep       *SweepDoc
 	Cautions    []string
+	Material    *MaterialInfo
+}
+
+// MaterialInfo is a material's exchange energy for transition temperatures
+// in kelvin.
+type MaterialInfo struct {
+	Name           string
+	Exchange       float64
+	Unit           string
+	Convention     string
+	ConventionHelp string
+	JModelK        float64 // the model's exchange over k_B, in kelvin
+	Caution        string
+}
+
+// kelvin returns T_c in kelvin for a crossing, or NaN and the reason it is
+// not given: a temperature path, or a path of the exchange alone with every
+// other coupling zero, is needed.
+func (d CriticalDoc) kelvin(c flow.Crossing) (float64, string) {
+	if d.Material == nil {
+		return math.NaN(), "no [material] in the scenario"
+	}
+	if d.Temperature {
+		return c.Value * d.Material.JModelK, ""
+	}
+	e := exchange(d.Map)
+	if d.Path.Name == d.Map.Couplings()[e].Name {
+		alone := true
+		for _, v := range d.At {
+			alone = alone && v == 0
+		}
+		if alone && c.Value > 0 {
+			return d.Material.JModelK / c.Value, ""
+		}
+	}
+	return math.NaN(), "T_c in kelvin needs a temperature path (--along T=...) or a path of the exchange alone with every other coupling 0; the critical coupling is printed alone"
 }
 
 // SweepDoc is the result of --sweep.
@@ -76,7 +112,9 @@ type TransitionJSON struct {
 	Order       string             `json:"order,omitempty"`
 	Digits      int                `json:"significant_digits"`
 	Refined     bool               `json:"refined_by_scaling_field"`
-	Extra       map[string]float64 `json:"-"`
+	TcKelvin    *Num               `json:"T_c_kelvin,omitempty"`
+	KelvinNote  string             `json:"kelvin_note,omitempty"`
+	Caution     string             `json:"caution,omitempty"`
 }
 
 // ControllingJSON is the fixed point controlling a crossing.
@@ -161,6 +199,15 @@ func (d CriticalDoc) transition(c flow.Crossing) TransitionJSON {
 	if c.Controlling >= 0 && c.Controlling < len(d.Points) {
 		p := d.Points[c.Controlling]
 		t.Controlling = &ControllingJSON{Place: p.Place(d.Map), FixedPointJSON: FixedPoint(d.Map, p)}
+	}
+	if d.Material != nil {
+		if tk, why := d.kelvin(c); why == "" {
+			v := Num(tk)
+			t.TcKelvin = &v
+			t.Caution = d.Material.Caution
+		} else {
+			t.KelvinNote = why
+		}
 	}
 	return t
 }
@@ -293,6 +340,16 @@ func CriticalText(w io.Writer, d CriticalDoc) error {
 			b.WriteString("; value refined inside it by the thermal scaling field (left eigenvector) of the controlling point")
 		}
 		b.WriteString("\n")
+		if d.Material != nil {
+			if tk, why := d.kelvin(c); why == "" {
+				fmt.Fprintf(&b, "    T_c       = %s K for %s (exchange %s %s, convention %s: %s; scheme %s%s)\n",
+					Text(tk, min(dig, 6)), d.Material.Name, Text(d.Material.Exchange, 6), d.Material.Unit,
+					d.Material.Convention, d.Material.ConventionHelp, d.Meta.Scheme, ordText)
+				fmt.Fprintf(&b, "    CAUTION   %s\n", d.Material.Caution)
+			} else {
+				fmt.Fprintf(&b, "    T_c in kelvin: not given (%s)\n", why)
+			}
+		}
 		x := make([]float64, len(d.Map.Couplings()))
 		d.Path.Point(x, c.Value)
 		var pt []string

@@ -18,6 +18,7 @@ type Meta struct {
 	Scheme   string
 	Params   map[string]any // model and scheme parameters, resolved
 	Cautions []string       // warnings the scheme attaches to its results
+	Scenario string         // the scenario's name, "" when none
 }
 
 // Coupling is a coupling as listed in reports.
@@ -74,6 +75,7 @@ type FixedPointJSON struct {
 
 // FixedJSON is the document `fixed --json` writes.
 type FixedJSON struct {
+	Scenario    string           `json:"scenario,omitempty"`
 	Model       string           `json:"model"`
 	Scheme      string           `json:"scheme"`
 	Params      map[string]any   `json:"parameters"`
@@ -114,7 +116,8 @@ func symmetry(m flow.Map) string {
 // Fixed builds the `fixed --json` document.
 func Fixed(meta Meta, m flow.Map, res *flow.FindResult) FixedJSON {
 	doc := FixedJSON{
-		Model: meta.Model, Scheme: meta.Scheme, Params: meta.Params,
+		Scenario: meta.Scenario,
+		Model:    meta.Model, Scheme: meta.Scheme, Params: meta.Params,
 		B: Num(m.Rescale()), D: Num(m.Dimension()), Symmetry: symmetry(m),
 		Couplings:   Couplings(m),
 		FixedPoints: []FixedPointJSON{},
@@ -192,6 +195,9 @@ func FixedPoint(m flow.Map, p flow.FixedPoint) FixedPointJSON {
 func FixedText(w io.Writer, meta Meta, m flow.Map, res *flow.FindResult) error {
 	cs := m.Couplings()
 	var b strings.Builder
+	if meta.Scenario != "" {
+		fmt.Fprintf(&b, "scenario %s\n", meta.Scenario)
+	}
 	fmt.Fprintf(&b, "model %s, scheme %s", meta.Model, meta.Scheme)
 	if len(meta.Params) > 0 {
 		fmt.Fprintf(&b, " (%s)", paramString(meta.Params))
