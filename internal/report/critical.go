@@ -100,21 +100,21 @@ func order(meta Meta) string {
 
 // TransitionJSON is one crossing in the `critical --json` contract.
 type TransitionJSON struct {
-	Coupling    string             `json:"coupling"`
-	Value       Num                `json:"value"`
-	Bracket     [2]Num             `json:"bracket"`
-	Kind        string             `json:"kind"`
-	Controlling *ControllingJSON   `json:"controlling_fixed_point"`
-	KTOverJ     *Num               `json:"kT_over_J"`
-	Exchange    *Num               `json:"exchange_critical_coupling"`
-	Point       map[string]Num     `json:"point"`
-	Phases      map[string]string  `json:"phases"`
-	Order       string             `json:"order,omitempty"`
-	Digits      int                `json:"significant_digits"`
-	Refined     bool               `json:"refined_by_scaling_field"`
-	TcKelvin    *Num               `json:"T_c_kelvin,omitempty"`
-	KelvinNote  string             `json:"kelvin_note,omitempty"`
-	Caution     string             `json:"caution,omitempty"`
+	Coupling    string            `json:"coupling"`
+	Value       Num               `json:"value"`
+	Bracket     [2]Num            `json:"bracket"`
+	Kind        string            `json:"kind"`
+	Controlling *ControllingJSON  `json:"controlling_fixed_point"`
+	KTOverJ     *Num              `json:"kT_over_J"`
+	Exchange    *Num              `json:"exchange_critical_coupling"`
+	Point       map[string]Num    `json:"point"`
+	Phases      map[string]string `json:"phases"`
+	Order       string            `json:"order,omitempty"`
+	Digits      int               `json:"significant_digits"`
+	Refined     bool              `json:"refined_by_scaling_field"`
+	TcKelvin    *Num              `json:"T_c_kelvin,omitempty"`
+	KelvinNote  string            `json:"kelvin_note,omitempty"`
+	Caution     string            `json:"caution,omitempty"`
 }
 
 // ControllingJSON is the fixed point controlling a crossing.
