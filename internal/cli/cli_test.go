@@ -6,6 +6,7 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"math"
+	"os"
 	"strconv"
 	"strings"
 	"testing"
@@ -270,5 +271,107 @@ func TestCriticalFirstOrderInField(t *testing.T) {
 	}
 	if len(doc.Transitions) != 1 || doc.Transitions[0].Kind != "first order" || math.Abs(doc.Transitions[0].Value) > 1e-9 {
 		t.Errorf("transitions %+v, want one first-order transition at h = 0", doc.Transitions)
+	}
+}
+
+// A scenario file works with flags before or after it, and a built-in
+// scenario printed by 'scenarios show' runs unchanged when saved.
+func TestScenarioArgument(t *testing.T) {
+	dir := t.TempDir()
+	code, text, _ := run("scenarios", "show", "mk-formula")
+	if code != 0 || !strings.Contains(text, "invented") {
+		t.Fatalf("scenarios show: exit %d", code)
+	}
+	file := dir + "/my-study.toml"
+	if err := writeFile(file, text); err != nil {
+		t.Fatal(err)
+	}
+	c1, o1, e1 := run("fixed", file, "--json")
+	c2, o2, e2 := run("fixed", "--json", file)
+	if c1 != 0 || c2 != 0 {
+		t.Fatalf("exit %d (%s) and %d (%s)", c1, e1, c2, e2)
+	}
+	var d1, d2 map[string]any
+	if json.Unmarshal([]byte(o1), &d1) != nil || json.Unmarshal([]byte(o2), &d2) != nil {
+		t.Fatal("invalid JSON")
+	}
+	if len(d1["fixed_points"].([]any)) != 3 || len(d2["fixed_points"].([]any)) != 3 {
+		t.Errorf("want the three fixed points of the recursion (K = 0, K*, +inf) both ways")
+	}
+	code, list, _ := run("scenarios")
+	if code != 0 {
+		t.Fatal("scenarios: non-zero exit")
+	}
+	for _, line := range strings.Split(strings.TrimSpace(list), "\n") {
+		name := strings.Fields(line)[0]
+		if c, _, e := run("fixed", name, "--csv"); c != 0 {
+			t.Errorf("built-in %s: exit %d: %s", name, c, e)
+		}
+	}
+}
+
+func writeFile(name, text string) error { return os.WriteFile(name, []byte(text), 0o644) }
+
+// A transition temperature in kelvin: T_c = (kT_c/J) J/k_B with
+// k_B = 8.617333262e-5 eV/K (CODATA, exact since 2019); the monolayer's
+// J = 5 meV gives J/k_B = 58.0226 K (5e-3/8.617333262e-5, by hand), printed
+// with the convention, the scheme, its order and the caution.
+func TestCriticalKelvin(t *testing.T) {
+	code, out, errs := run("critical", "monolayer", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc struct {
+		Order       string `json:"order"`
+		Transitions []struct {
+			Value   float64  `json:"value"`
+			Kelvin  *float64 `json:"T_c_kelvin"`
+			Caution string   `json:"caution"`
+		} `json:"transitions"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Transitions) != 1 || doc.Transitions[0].Kelvin == nil {
+		t.Fatalf("transitions %+v, want one with T_c in kelvin", doc.Transitions)
+	}
+	tr := doc.Transitions[0]
+	if want := tr.Value * 58.02257; math.Abs(*tr.Kelvin-want) > 1e-4*want {
+		t.Errorf("T_c = %g K, want %g K", *tr.Kelvin, want)
+	}
+	if !strings.Contains(tr.Caution, "estimate, not a measurement") || doc.Order != "move-first" {
+		t.Errorf("caution %q order %q", tr.Caution, doc.Order)
+	}
+	// On a coupling path other than the exchange alone, no kelvin.
+	code, out, _ = run("critical", "monolayer", "--along", "h=-1:1.1", "--at", "K=0.5", "--json")
+	if code != 0 || strings.Contains(out, "T_c_kelvin") || !strings.Contains(out, "kelvin_note") {
+		t.Errorf("coupling path with a field: want no T_c in kelvin and the reason")
+	}
+}
+
+func TestScenarioBadInput(t *testing.T) {
+	cases := []struct {
+		args []string
+		want []string
+	}{
+		{[]string{"fixed", "nosuch-study"}, []string{"nosuch-study", "monolayer"}},
+		{[]string{"fixed", "/nonexistent/x.toml"}, []string{"x.toml"}},
+		{[]string{"fixed", "monolayer", "--model", "potts"}, []string{"scenario", "--model"}},
+		{[]string{"fixed", "monolayer", "--set", "zz=1"}, []string{"zz", "accepted"}},
+		{[]string{"fixed", "monolayer", "--set", "K=1"}, []string{"coupling", "--from"}},
+		{[]string{"fixed", "cumulant-formula", "--set", "w=abc"}, []string{"w=abc"}},
+		{[]string{"scenarios", "show", "nope"}, []string{"nope", "monolayer"}},
+	}
+	for _, c := range cases {
+		code, out, errs := run(c.args...)
+		name := strings.Join(c.args, " ")
+		if code == 0 || out != "" || strings.Count(errs, "\n") != 1 {
+			t.Errorf("%s: exit %d, stdout %q, stderr %q", name, code, out, errs)
+		}
+		for _, w := range c.want {
+			if !strings.Contains(errs, w) {
+				t.Errorf("%s: message %q does not mention %q", name, errs, w)
+			}
+		}
 	}
 }
