@@ -113,13 +113,19 @@ func newBond(m *Model, b int, d, p float64, order Order, hier bool) (*BondMove, 
 		bm.one = append(bm.one, c.Role.OneBody())
 	}
 	if !hier {
-		// Σ_n b^{−dn} (d c0/b^d + κ) = ln q at zero couplings, where
-		// c0 = (b−1) ln q is the constant of W^b for W = all ones.
+		// Σ_n b^{−dn} (d c0/b^d + κ) = ln q at zero couplings, where c0 is
+		// the step's constant for W = all ones: (b−1) ln q from W^b when
+		// bonds are moved first (moving zeros adds nothing), p (b−1) ln q
+		// when the decimated bond is then taken p times.
 		bd := math.Pow(float64(b), d)
-		perBond := float64(b-1) * math.Log(m.q) / bd / (1 - 1/bd)
+		c0 := float64(b-1) * math.Log(m.q)
+		if order == DecimateFirst {
+			c0 *= p
+		}
+		perBond := c0 / bd / (1 - 1/bd)
 		bm.kappa = (math.Log(m.q) - d*perBond) * (1 - 1/bd)
 	}
-	bm.pool.New = func() any { return make([]float64, len(m.couplings)) }
+	bm.pool.New = func() any { v := make([]float64, len(m.couplings)); return &v }
 	return bm, nil
 }
 
@@ -195,8 +201,9 @@ func (bm *BondMove) Step(dst, x []float64) float64 {
 	m := bm.m
 	m.checkLen("Step dst", dst, len(m.couplings))
 	m.checkLen("Step x", x, len(m.couplings))
-	xb := bm.pool.Get().([]float64)
-	defer bm.pool.Put(xb)
+	xp := bm.pool.Get().(*[]float64)
+	defer bm.pool.Put(xp)
+	xb := *xp
 	bm.toBond(xb, x)
 	sz := m.size
 	var lw []float64

@@ -143,8 +143,11 @@ type Symmetrist interface {
 	Symmetry() string
 }
 
-// PerBonder is a map whose constant g is per bond rather than per site.
+// PerBonder is a map that can say whether its constant g is per bond
+// rather than per site (PerBond), and how many sites its lattice has per
+// bond. Only a map whose PerBond returns true reports g per bond.
 type PerBonder interface {
+	PerBond() bool
 	SitesPerBond() float64
 }
 
