@@ -13,6 +13,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"scalewalk/scenarios"
+	"scalewalk/tui"
 )
 
 // UsageError is bad input from the user: exit status 2.
@@ -31,7 +32,7 @@ func Main(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io
 			code = 1
 		}
 	}()
-	root := newRoot(ctx, stdout, stderr)
+	root := newRoot(ctx, stdin, stdout, stderr)
 	root.SetArgs(args)
 	root.SetIn(stdin)
 	root.SetOut(stdout)
@@ -61,7 +62,7 @@ func isCobraUsage(msg string) bool {
 	return false
 }
 
-func newRoot(ctx context.Context, stdout, stderr io.Writer) *cobra.Command {
+func newRoot(ctx context.Context, stdin io.Reader, stdout, stderr io.Writer) *cobra.Command {
 	root := &cobra.Command{
 		Use:   "scalewalk",
 		Short: "real-space renormalization-group workbench for lattice spin models",
@@ -70,7 +71,8 @@ lattice spin models (Ising, Potts, clock, spin-1): recursion relations,
 fixed points and their classification, eigenvalues and scaling exponents,
 and trajectories.
 
-With no command it prints the fixed-point report of the default built-in
+With no command, on a terminal, it opens the explorer; without a terminal
+(in a script) it prints the fixed-point report of the default built-in
 scenario (` + "`monolayer`" + `, an invented adsorbed monolayer studied by bond moving).
 
 Every command that takes a model also takes a scenario: a TOML file, or the
@@ -85,6 +87,9 @@ before the step, so that ln Z/N = sum over n of b^(-d n) g(x_n).`,
 		SilenceErrors: true,
 		Args:          cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if isTerminal(stdout) {
+				return tui.Run(tui.Options{Scenario: scenarios.DefaultScenario}, stdin, stdout)
+			}
 			o := &options{scenario: scenarios.DefaultScenario}
 			return runFixed(cmd.Context(), o, stdout)
 		},
@@ -93,6 +98,6 @@ before the step, so that ln Z/N = sum over n of b^(-d n) g(x_n).`,
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return usagef("%v (see '%s --help')", err, c.CommandPath())
 	})
-	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr), newCritical(stdout), newScenarios(stdout))
+	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr), newCritical(stdout), newScenarios(stdout), newExplore(stdin, stdout))
 	return root
 }

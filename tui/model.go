@@ -1,0 +1,544 @@
+package tui
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/charmbracelet/bubbles/help"
+	"github.com/charmbracelet/bubbles/key"
+	"github.com/charmbracelet/bubbles/spinner"
+	"github.com/charmbracelet/bubbles/textinput"
+	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
+	"github.com/charmbracelet/x/ansi"
+
+	"scalewalk/flow"
+	"scalewalk/internal/report"
+	"scalewalk/scenarios"
+)
+
+func errorf(format string, a ...any) error { return fmt.Errorf(format, a...) }
+
+type mode int
+
+const (
+	modeMain mode = iota
+	modeHelp
+	modeScenarios
+	modeParams
+	modeExport
+)
+
+// Model is the explorer: the only tea.Model of the package.
+type Model struct {
+	keys    keyMap
+	styles  Styles
+	help    help.Model
+	spin    spinner.Model
+	width   int
+	height  int
+	mode    mode
+	src     *source
+	slice   flow.Slice
+	ax, ay  Axis
+	cursor  [2]float64
+	trail   []flow.TracePoint
+	stop    string
+	points  []flow.FixedPoint
+	phases  *flow.SinkPhases
+	lines   [][][2]float64
+	fan     [][][2]float64
+	bound   [][2]float64
+	sel     int
+	table   bool
+	show    struct{ lines, boundary bool }
+	cross   *crossMsg
+	runID   int
+	cancel  context.CancelFunc
+	busy    string
+	status  string
+	err     string
+	frame   Frame
+	choices []string // scenario picker
+	choice  int
+	inputs  []textinput.Model // parameter form
+	focus   int
+	export  textinput.Model
+}
+
+// New returns the explorer on the study the options name.
+func New(o Options) (Model, error) {
+	src, err := build(o)
+	if err != nil {
+		return Model{}, err
+	}
+	m := Model{keys: defaultKeyMap(), styles: DefaultStyles(), help: help.New(), spin: spinner.New(spinner.WithSpinner(spinner.Dot)),
+		width: 80, height: 24, sel: -1}
+	m.show.lines, m.show.boundary = true, true
+	m.setSource(src)
+	return m, nil
+}
+
+// setSource installs a study: the slice from the scenario (or the first
+// two couplings), the axes, the cursor in the middle.
+func (m *Model) setSource(src *source) {
+	m.src = src
+	cs := src.m.Couplings()
+	xi, yi := 0, 0
+	if len(cs) > 1 {
+		yi = 1
+	}
+	base := make([]float64, len(cs))
+	ax := Axis{Name: cs[xi].Name, Lo: 0, Hi: 1.5}
+	ay := Axis{Name: cs[yi].Name, Lo: -1, Hi: 1}
+	if sf := src.slice; sf != nil {
+		if i := flow.Index(src.m, sf.X); i >= 0 {
+			xi, ax.Name = i, sf.X
+		}
+		if i := flow.Index(src.m, sf.Y); i >= 0 {
+			yi, ay.Name = i, sf.Y
+		}
+		if len(sf.XRange) == 2 && sf.XRange[1] > sf.XRange[0] {
+			ax.Lo, ax.Hi = sf.XRange[0], sf.XRange[1]
+		}
+		if len(sf.YRange) == 2 && sf.YRange[1] > sf.YRange[0] {
+			ay.Lo, ay.Hi = sf.YRange[0], sf.YRange[1]
+		}
+		for k, v := range sf.Held {
+			if i := flow.Index(src.m, k); i >= 0 {
+				base[i] = v
+			}
+		}
+	}
+	if xi == yi {
+		ay = Axis{Name: cs[xi].Name + " (again: the map has one coupling)", Lo: ax.Lo, Hi: ax.Hi}
+	}
+	m.slice = flow.Slice{M: src.m, X: xi, Y: yi, Base: base}
+	m.ax, m.ay = ax, ay
+	m.cursor = [2]float64{(ax.Lo + ax.Hi) / 2, (ay.Lo + ay.Hi) / 2}
+	m.trail, m.points, m.lines, m.fan, m.bound, m.cross, m.sel = nil, nil, nil, nil, nil, nil, -1
+	m.err, m.status = "", ""
+}
+
+// Init starts the first computation.
+func (m Model) Init() tea.Cmd {
+	return tea.Batch(m.spin.Tick, func() tea.Msg { return recomputeMsg{} })
+}
+
+type recomputeMsg struct{}
+
+// start begins a background computation, cancelling the previous one.
+func (m *Model) start(what string) (context.Context, int) {
+	if m.cancel != nil {
+		m.cancel()
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	m.cancel = cancel
+	m.runID++
+	m.busy = what
+	return ctx, m.runID
+}
+
+func (m *Model) solve() tea.Cmd {
+	ctx, id := m.start("finding fixed points and flow lines")
+	return solveCmd(ctx, id, m.slice, m.axX(), m.axY())
+}
+
+// axX and axY are the axes in coupling terms for the computation (a
+// squeezed axis computes on the coupling range it shows).
+func (m *Model) axX() Axis { return m.ax }
+func (m *Model) axY() Axis { return m.ay }
+
+// Update handles messages.
+func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
+	switch msg := msg.(type) {
+	case tea.WindowSizeMsg:
+		m.width, m.height = msg.Width, msg.Height
+		m.help.Width = msg.Width
+		m.render()
+		return m, nil
+	case recomputeMsg:
+		cmd := m.solve()
+		m.render()
+		return m, cmd
+	case spinner.TickMsg:
+		var cmd tea.Cmd
+		m.spin, cmd = m.spin.Update(msg)
+		return m, cmd
+	case solvedMsg:
+		if msg.id != m.runID {
+			return m, nil // a stale result: a newer request is running
+		}
+		m.busy = ""
+		if msg.err != nil {
+			if msg.err != flow.ErrCanceled {
+				m.err = msg.err.Error()
+			}
+			m.render()
+			return m, nil
+		}
+		m.points, m.phases, m.lines, m.bound = msg.points, msg.phases, msg.lines, msg.boundary
+		m.status = fmt.Sprintf("%d fixed point(s)", len(m.points))
+		m.render()
+		return m, nil
+	case crossMsg:
+		if msg.id != m.runID {
+			return m, nil
+		}
+		m.busy = ""
+		if msg.err != nil {
+			m.err = msg.err.Error()
+		} else {
+			mm := msg
+			m.cross = &mm
+			m.table = false
+			m.status = fmt.Sprintf("%d transition(s) along %s", len(msg.xs), msg.name)
+		}
+		m.render()
+		return m, nil
+	case fanMsg:
+		if msg.id != m.runID {
+			return m, nil
+		}
+		m.busy = ""
+		m.fan = append(m.fan, msg.lines...)
+		m.render()
+		return m, nil
+	case tea.MouseMsg:
+		if m.mode == modeMain && msg.Action == tea.MouseActionPress && msg.Button == tea.MouseButtonLeft {
+			if x, y, ok := m.frame.CellAt(msg.X, msg.Y-1); ok && !math.IsInf(x, 0) && !math.IsInf(y, 0) {
+				m.cursor = [2]float64{x, y}
+				m.trail = nil
+				m.render()
+			}
+		}
+		return m, nil
+	case tea.KeyMsg:
+		return m.key(msg)
+	}
+	return m, nil
+}
+
+func (m Model) key(msg tea.KeyMsg) (tea.Model, tea.Cmd) {
+	k := m.keys
+	switch m.mode {
+	case modeHelp:
+		if key.Matches(msg, k.Quit) && msg.String() == "ctrl+c" {
+			return m, tea.Quit
+		}
+		m.mode = modeMain
+		return m, nil
+	case modeScenarios:
+		return m.keyScenarios(msg)
+	case modeParams:
+		return m.keyParams(msg)
+	case modeExport:
+		return m.keyExport(msg)
+	}
+	dx := (m.ax.Hi - m.ax.Lo) / 40
+	dy := (m.ay.Hi - m.ay.Lo) / 20
+	move := func(fx, fy float64) {
+		x := m.ax.Value(m.ax.Frac(m.cursor[0]) + fx)
+		y := m.ay.Value(m.ay.Frac(m.cursor[1]) + fy)
+		if !math.IsInf(x, 0) && !math.IsInf(y, 0) {
+			m.cursor = [2]float64{x, y}
+			m.trail = nil
+		}
+	}
+	_ = dx
+	_ = dy
+	switch {
+	case key.Matches(msg, k.Quit):
+		if m.cancel != nil {
+			m.cancel()
+		}
+		return m, tea.Quit
+	case key.Matches(msg, k.Help):
+		m.mode = modeHelp
+	case key.Matches(msg, k.Left):
+		move(-1.0/40, 0)
+	case key.Matches(msg, k.Right):
+		move(1.0/40, 0)
+	case key.Matches(msg, k.Up):
+		move(0, 1.0/20)
+	case key.Matches(msg, k.Down):
+		move(0, -1.0/20)
+	case key.Matches(msg, k.PanLeft), key.Matches(msg, k.PanRight), key.Matches(msg, k.PanUp), key.Matches(msg, k.PanDown):
+		sx := (m.ax.Hi - m.ax.Lo) / 5
+		sy := (m.ay.Hi - m.ay.Lo) / 5
+		switch {
+		case key.Matches(msg, k.PanLeft):
+			m.ax.Lo, m.ax.Hi = m.ax.Lo-sx, m.ax.Hi-sx
+		case key.Matches(msg, k.PanRight):
+			m.ax.Lo, m.ax.Hi = m.ax.Lo+sx, m.ax.Hi+sx
+		case key.Matches(msg, k.PanUp):
+			m.ay.Lo, m.ay.Hi = m.ay.Lo+sy, m.ay.Hi+sy
+		case key.Matches(msg, k.PanDown):
+			m.ay.Lo, m.ay.Hi = m.ay.Lo-sy, m.ay.Hi-sy
+		}
+		m.clampSqueeze()
+		return m, m.recompute()
+	case key.Matches(msg, k.ZoomIn), key.Matches(msg, k.ZoomOut):
+		f := 0.5
+		if key.Matches(msg, k.ZoomOut) {
+			f = 2
+		}
+		cx, cy := m.ax.fwd(m.cursor[0]), m.ay.fwd(m.cursor[1])
+		m.ax.Lo, m.ax.Hi = cx+(m.ax.Lo-cx)*f, cx+(m.ax.Hi-cx)*f
+		m.ay.Lo, m.ay.Hi = cy+(m.ay.Lo-cy)*f, cy+(m.ay.Hi-cy)*f
+		m.clampSqueeze()
+		return m, m.recompute()
+	case key.Matches(msg, k.Squeeze):
+		m.toggleSqueeze()
+		return m, m.recompute()
+	case key.Matches(msg, k.Step):
+		m.step(1)
+	case key.Matches(msg, k.Run):
+		m.step(200)
+	case key.Matches(msg, k.Clear):
+		m.trail, m.fan, m.cross, m.stop = nil, nil, nil, ""
+	case key.Matches(msg, k.Fan):
+		ctx, id := m.start("drawing a fan of flow lines")
+		rx := (m.ax.Value(m.ax.Frac(m.cursor[0])+0.03) - m.cursor[0])
+		ry := (m.ay.Value(m.ay.Frac(m.cursor[1])+0.03) - m.cursor[1])
+		m.render()
+		return m, fanCmd(ctx, id, m.slice, m.cursor[0], m.cursor[1], rx, ry)
+	case key.Matches(msg, k.NextFixed):
+		if len(m.points) > 0 {
+			m.sel = (m.sel + 1) % len(m.points)
+			m.table = true
+			m.cross = nil
+		}
+	case key.Matches(msg, k.Table):
+		m.table = !m.table
+		if m.table && m.sel < 0 && len(m.points) > 0 {
+			m.sel = 0
+		}
+	case key.Matches(msg, k.Lines):
+		m.show.lines = !m.show.lines
+	case key.Matches(msg, k.Boundary):
+		m.show.boundary = !m.show.boundary
+	case key.Matches(msg, k.CrossX), key.Matches(msg, k.CrossY):
+		return m, m.crossing(key.Matches(msg, k.CrossX))
+	case key.Matches(msg, k.Cancel):
+		if m.cancel != nil {
+			m.cancel()
+			m.runID++
+			m.busy = ""
+			m.status = "cancelled"
+		}
+	case key.Matches(msg, k.Scenarios):
+		m.choices = scenarios.BuiltinNames()
+		m.choice = 0
+		m.mode = modeScenarios
+	case key.Matches(msg, k.Params):
+		m.openParams()
+	case key.Matches(msg, k.Export):
+		m.export = textinput.New()
+		m.export.Placeholder = "flow.csv or flow.json"
+		m.export.Prompt = "write to file: "
+		m.export.Focus()
+		m.mode = modeExport
+	}
+	m.render()
+	return m, nil
+}
+
+func (m *Model) recompute() tea.Cmd {
+	m.render()
+	return m.solve()
+}
+
+func (m *Model) toggleSqueeze() {
+	for _, a := range []*Axis{&m.ax, &m.ay} {
+		if a.Squeeze {
+			a.Squeeze = false
+			a.Lo, a.Hi = a.Value(0), a.Value(1)
+			if math.IsInf(a.Lo, 0) {
+				a.Lo = -3
+			}
+			if math.IsInf(a.Hi, 0) {
+				a.Hi = 3
+			}
+		} else {
+			lo, hi := math.Tanh(a.Lo), math.Tanh(a.Hi)
+			a.Squeeze = true
+			a.Lo, a.Hi = math.Min(lo, 0)-0.02, 1.0
+			if hi < 0 {
+				a.Hi = 0.02
+			}
+			a.Lo = math.Max(a.Lo, -1)
+			if lo < -0.5 {
+				a.Lo = -1
+			}
+		}
+	}
+}
+
+func (m *Model) clampSqueeze() {
+	for _, a := range []*Axis{&m.ax, &m.ay} {
+		if a.Squeeze {
+			a.Lo, a.Hi = math.Max(a.Lo, -1), math.Min(a.Hi, 1)
+			if a.Hi-a.Lo < 1e-6 {
+				a.Lo, a.Hi = -1, 1
+			}
+		}
+	}
+}
+
+// step takes n RG steps from the cursor (or from the end of the trail).
+func (m *Model) step(n int) {
+	if len(m.trail) == 0 {
+		m.trail = []flow.TracePoint{{X: m.slice.Point(m.cursor[0], m.cursor[1]), G: math.NaN()}}
+	}
+	last := m.trail[len(m.trail)-1].X
+	t := flow.Trace(m.slice.M, last, n, nil)
+	// The first row of t is the last point again, now with its g.
+	m.trail[len(m.trail)-1] = t.Points[0]
+	m.trail = append(m.trail, t.Points[1:]...)
+	m.stop = t.Stop.String()
+	if t.Detail != "" {
+		m.stop += " (" + t.Detail + ")"
+	}
+	if len(m.trail) > 500 {
+		m.trail = m.trail[len(m.trail)-500:]
+	}
+}
+
+func (m *Model) crossing(horizontal bool) tea.Cmd {
+	if m.phases == nil {
+		m.status = "wait for the fixed points before locating transitions"
+		return nil
+	}
+	cs := m.slice.M.Couplings()
+	base := m.slice.Point(m.cursor[0], m.cursor[1])
+	idx, ax := m.slice.X, m.ax
+	if !horizontal {
+		idx, ax = m.slice.Y, m.ay
+	}
+	lo, hi := ax.Value(0.001), ax.Value(0.999)
+	p := flow.Path{Name: cs[idx].Name, From: lo, To: hi, Samples: 64, Point: func(dst []float64, s float64) {
+		copy(dst, base)
+		dst[idx] = s
+	}}
+	ctx, id := m.start("locating transitions along " + cs[idx].Name)
+	m.render()
+	return crossCmd(ctx, id, m.phases, p, horizontal)
+}
+
+// render rebuilds the plot frame from the data; View only reads it.
+func (m *Model) render() {
+	pw, ph := m.plotSize()
+	p := Plot{AX: m.ax, AY: m.ay}
+	if m.show.lines {
+		p.Lines = append(append(p.Lines, m.lines...), m.fan...)
+	}
+	if m.show.boundary {
+		p.Boundary = m.bound
+	}
+	for i, fp := range m.points {
+		if !m.slice.OnSlice(fp, 1e-6) {
+			continue
+		}
+		r := kindRune(fp)
+		if i == m.sel {
+			r = '['
+		}
+		p.Markers = append(p.Markers, Marker{X: fp.X[m.slice.X], Y: fp.X[m.slice.Y], Rune: r, Style: styleFixed})
+	}
+	for k, t := range m.trail {
+		p.Markers = append(p.Markers, Marker{X: t.X[m.slice.X], Y: t.X[m.slice.Y], Rune: rune('0' + k%10), Style: styleTrail})
+	}
+	if m.cross != nil {
+		for _, c := range m.cross.xs {
+			x := make([]float64, len(m.slice.Base))
+			m.cross.path.Point(x, c.Value)
+			r := '|'
+			if !m.cross.horizo {
+				r = '='
+			}
+			p.Markers = append(p.Markers, Marker{X: x[m.slice.X], Y: x[m.slice.Y], Rune: r, Style: styleCursor})
+		}
+	}
+	p.Markers = append(p.Markers, Marker{X: m.cursor[0], Y: m.cursor[1], Rune: '@', Style: styleCursor})
+	m.frame = p.Render(pw, ph)
+}
+
+const sideWidth = 32
+
+func (m Model) plotSize() (int, int) {
+	return max(20, m.width-sideWidth), max(6, m.height-4)
+}
+
+// View draws the screen from the model.
+func (m Model) View() string {
+	st := m.styles
+	title := ansi.Truncate(st.Title.Render("scalewalk explorer")+"  "+m.src.title, max(10, m.width), "…")
+	if m.mode == modeHelp {
+		return lipgloss.JoinVertical(lipgloss.Left, title, "", m.helpView())
+	}
+	var plot strings.Builder
+	for i, row := range m.frame.Rows {
+		if i > 0 {
+			plot.WriteByte('\n')
+		}
+		plot.WriteString(m.styleRow(row, m.frame.Styles[i]))
+	}
+	side := m.sideView()
+	body := lipgloss.JoinHorizontal(lipgloss.Top, plot.String(), st.Panel.Width(sideWidth-1).Render(side))
+	axes := st.Dim.Render(trunc(fmt.Sprintf("x: %s   y: %s   %s", m.ax.Label(), m.ay.Label(), Legend), max(10, m.width)))
+	return lipgloss.JoinVertical(lipgloss.Left, title, body, axes, m.statusLine())
+}
+
+func (m Model) styleRow(row string, styles []int) string {
+	if styles == nil {
+		return m.styles.Dim.Render(row)
+	}
+	var b strings.Builder
+	for i, r := range []rune(row) {
+		s := 0
+		if i < len(styles) {
+			s = styles[i]
+		}
+		if st, ok := m.styles.Marks[s]; ok && s != 0 {
+			b.WriteString(st.Render(string(r)))
+		} else {
+			b.WriteRune(r)
+		}
+	}
+	return b.String()
+}
+
+func (m Model) statusLine() string {
+	st := m.styles
+	cs := m.slice.M.Couplings()
+	left := fmt.Sprintf("%s/%s %s | cursor %s=%s %s=%s", m.src.model, m.src.scheme, m.src.paramText(),
+		cs[m.slice.X].Name, report.Text(m.cursor[0], 4), cs[m.slice.Y].Name, report.Text(m.cursor[1], 4))
+	if m.slice.Projected() {
+		left += " | projected: held couplings drift"
+	}
+	if m.busy != "" {
+		left = m.spin.View() + " " + m.busy + " (ctrl+x cancels) | " + left
+	}
+	if m.err != "" {
+		return st.Error.Render("error: "+m.err) + " " + st.Status.Render(left)
+	}
+	if m.status != "" {
+		left += " | " + m.status
+	}
+	return st.Status.Render(trunc(left, max(10, m.width))) + "\n" + ansi.Truncate(m.help.View(m.keys), max(10, m.width), "")
+}
+
+func (m Model) helpView() string {
+	var b strings.Builder
+	for _, col := range m.keys.FullHelp() {
+		for _, kb := range col {
+			h := kb.Help()
+			fmt.Fprintf(&b, "  %-10s %s\n", h.Key, h.Desc)
+		}
+	}
+	b.WriteString("\n" + Legend + "\n\nany key returns")
+	return b.String()
+}

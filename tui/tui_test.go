@@ -1,0 +1,286 @@
+package tui
+
+import (
+	"context"
+	"flag"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/x/ansi"
+
+	"scalewalk/flow"
+)
+
+var update = flag.Bool("update", false, "rewrite the golden files")
+
+// newSolved returns the explorer on a study with its computation run
+// synchronously, at the given size.
+func newSolved(t testing.TB, o Options, w, h int) Model {
+	t.Helper()
+	m, err := New(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mm, _ := m.Update(tea.WindowSizeMsg{Width: w, Height: h})
+	m = mm.(Model)
+	ctx, id := m.start("test")
+	msg := solveCmd(ctx, id, m.slice, m.ax, m.ay)()
+	mm, _ = m.Update(msg)
+	return mm.(Model)
+}
+
+func press(m Model, keys ...string) Model {
+	for _, k := range keys {
+		var msg tea.KeyMsg
+		switch k {
+		case "tab":
+			msg = tea.KeyMsg{Type: tea.KeyTab}
+		case "enter":
+			msg = tea.KeyMsg{Type: tea.KeyEnter}
+		case "esc":
+			msg = tea.KeyMsg{Type: tea.KeyEsc}
+		case "up":
+			msg = tea.KeyMsg{Type: tea.KeyUp}
+		case "down":
+			msg = tea.KeyMsg{Type: tea.KeyDown}
+		case "left":
+			msg = tea.KeyMsg{Type: tea.KeyLeft}
+		case "right":
+			msg = tea.KeyMsg{Type: tea.KeyRight}
+		case " ":
+			msg = tea.KeyMsg{Type: tea.KeySpace, Runes: []rune{' '}}
+		default:
+			msg = tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune(k)}
+		}
+		mm, _ := m.Update(msg)
+		m = mm.(Model)
+	}
+	return m
+}
+
+// kStar solves tanh K = tanh^2(2K) for the bond-moving Ising fixed point
+// (R. K. Pathria, P. D. Beale, Statistical Mechanics, ch. 14) by bisection.
+func kStar() float64 {
+	lo, hi := 0.2, 0.5
+	for i := 0; i < 200; i++ {
+		mid := (lo + hi) / 2
+		if math.Atanh(math.Pow(math.Tanh(2*mid), 2)) < mid {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return (lo + hi) / 2
+}
+
+// The known fixed point is drawn in the cell its value maps to, on linear
+// and on squeezed (tanh) axes: the cell is computed here from the axis
+// definition (fraction along the axis times the dots across, two dots per
+// cell), independently of the renderer.
+func TestCanvasPlacesFixedPoint(t *testing.T) {
+	ks := kStar()
+	for _, squeeze := range []bool{false, true} {
+		ax := Axis{Name: "K", Lo: 0, Hi: 1.5}
+		ay := Axis{Name: "h", Lo: -1, Hi: 1}
+		if squeeze {
+			ax = Axis{Name: "K", Lo: -1, Hi: 1, Squeeze: true}
+			ay = Axis{Name: "h", Lo: -1, Hi: 1, Squeeze: true}
+		}
+		p := Plot{AX: ax, AY: ay, Markers: []Marker{{X: ks, Y: 0, Rune: 'X', Style: styleFixed}}}
+		const w, h = 60, 20
+		f := p.Render(w, h)
+		cw, ch := w-8, h-2
+		fx := ks / 1.5
+		if squeeze {
+			fx = (math.Tanh(ks) + 1) / 2
+		}
+		col := 8 + int(math.Round(fx*float64(2*cw-1)))/2
+		row := int(math.Round(0.5*float64(4*ch-1))) / 4
+		got := []rune(f.Rows[row])
+		if col >= len(got) || got[col] != 'X' {
+			t.Errorf("squeeze=%v: cell (%d,%d) holds %q, want the critical point X (row %q)", squeeze, col, row, string(got[min(col, len(got)-1)]), f.Rows[row])
+		}
+		if c, r, ok := f.CellOf(ks, 0); !ok || c != col || r != row {
+			t.Errorf("squeeze=%v: CellOf = (%d,%d,%v), want (%d,%d)", squeeze, c, r, ok, col, row)
+		}
+	}
+}
+
+// Stepping moves the point to the engine's value: the n-th row of the
+// trail is the map applied n times to the cursor.
+func TestStepMatchesEngine(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 80, 24)
+	x0 := m.slice.Point(m.cursor[0], m.cursor[1])
+	m = press(m, " ", " ", "n")
+	if len(m.trail) != 4 {
+		t.Fatalf("%d rows after three steps, want 4", len(m.trail))
+	}
+	want := append([]float64(nil), x0...)
+	next := make([]float64, len(want))
+	for k := 1; k <= 3; k++ {
+		m.slice.M.Step(next, want)
+		copy(want, next)
+		for i := range want {
+			if m.trail[k].X[i] != want[i] {
+				t.Errorf("step %d coupling %d = %g, want the engine's %g", k, i, m.trail[k].X[i], want[i])
+			}
+		}
+	}
+	if v := ansi.Strip(m.View()); !strings.Contains(v, "steps from the cursor") || !strings.Contains(v, "3 K=") {
+		t.Errorf("the step log is not shown:\n%s", v)
+	}
+	m = press(m, "c")
+	if len(m.trail) != 0 {
+		t.Error("c did not clear the steps")
+	}
+}
+
+// A selected fixed point shows the engine's eigenvalues: the critical
+// point's thermal eigenvalue 1.67857 (Pathria and Beale) in the table.
+func TestFixedPointTable(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 100, 30)
+	for i := 0; i < len(m.points); i++ {
+		m = press(m, "tab")
+		if m.points[m.sel].Kind == flow.Critical && m.points[m.sel].Inf[0] == 0 {
+			break
+		}
+	}
+	p := m.points[m.sel]
+	if p.Kind != flow.Critical {
+		t.Fatalf("no finite critical point selected")
+	}
+	v := ansi.Strip(m.View())
+	if !strings.Contains(v, "1.67857") || !strings.Contains(v, "critical") || !strings.Contains(v, "nu") {
+		t.Errorf("table does not show the eigenvalue 1.67857 and the exponents:\n%s", v)
+	}
+}
+
+// A result for an older request is dropped.
+func TestStaleResultDropped(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 80, 24)
+	n := len(m.points)
+	mm, _ := m.Update(solvedMsg{id: m.runID - 1, points: nil})
+	if len(mm.(Model).points) != n {
+		t.Error("a stale result replaced the current one")
+	}
+}
+
+// Transitions along the horizontal line through the cursor: one continuous
+// crossing at K* with T_c in kelvin and its caution.
+func TestCrossingsThroughCursor(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 100, 30)
+	m.cursor = [2]float64{0.6, 0}
+	cmd := m.crossing(true)
+	mm, _ := m.Update(cmd())
+	m = mm.(Model)
+	if m.cross == nil || len(m.cross.xs) != 1 || math.Abs(m.cross.xs[0].Value-kStar()) > 1e-9 {
+		t.Fatalf("crossings %+v, want one at K* = %g", m.cross, kStar())
+	}
+	v := ansi.Strip(m.View())
+	if !strings.Contains(v, "T_c = ") || !strings.Contains(v, "CAUTION") {
+		t.Errorf("no T_c in kelvin with its caution:\n%s", v)
+	}
+}
+
+func TestExportAtomic(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 80, 24)
+	dir := t.TempDir()
+	for _, name := range []string{"flow.csv", "flow.json"} {
+		if err := m.writeExport(filepath.Join(dir, name)); err != nil {
+			t.Fatal(err)
+		}
+		b, err := os.ReadFile(filepath.Join(dir, name))
+		if err != nil || len(b) == 0 {
+			t.Errorf("%s not written", name)
+		}
+	}
+	if err := m.writeExport(filepath.Join(dir, "flow.txt")); err == nil {
+		t.Error("a .txt export was accepted")
+	}
+	ents, _ := os.ReadDir(dir)
+	for _, e := range ents {
+		if strings.HasPrefix(e.Name(), ".scalewalk-export") {
+			t.Errorf("temporary file %s left behind", e.Name())
+		}
+	}
+}
+
+// The parameter form comes from the parameter metadata; a bad value is
+// refused with the accepted range, a good one rebuilds the map.
+func TestParamsForm(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 100, 30)
+	m = press(m, "p")
+	if m.mode != modeParams || len(m.inputs) != 3 {
+		t.Fatalf("mode %v with %d inputs, want the form with d, b, order", m.mode, len(m.inputs))
+	}
+	if m.src.specs[0].Name != "d" {
+		t.Fatalf("first field %s", m.src.specs[0].Name)
+	}
+	m.inputs[0].SetValue("3")
+	mm, cmd := m.Update(tea.KeyMsg{Type: tea.KeyEnter})
+	m = mm.(Model)
+	if m.mode != modeMain || m.slice.M.Dimension() != 3 || cmd == nil {
+		t.Errorf("after d=3: mode %v, d = %g", m.mode, m.slice.M.Dimension())
+	}
+}
+
+// Golden views at 80x24 and 120x40 (ANSI stripped); go test ./tui -update
+// rewrites them.
+func TestGoldenViews(t *testing.T) {
+	for _, size := range [][2]int{{80, 24}, {120, 40}} {
+		m := newSolved(t, Options{Scenario: "monolayer"}, size[0], size[1])
+		got := ansi.Strip(m.View())
+		name := filepath.Join("testdata", "monolayer-"+itoa(size[0])+"x"+itoa(size[1])+".golden")
+		if *update {
+			os.MkdirAll("testdata", 0o755)
+			os.WriteFile(name, []byte(got), 0o644)
+			continue
+		}
+		want, err := os.ReadFile(name)
+		if err != nil {
+			t.Fatalf("%v (run go test ./tui -update to create it)", err)
+		}
+		if string(want) != got {
+			t.Errorf("%s differs:\n%s", name, got)
+		}
+		for _, line := range strings.Split(got, "\n") {
+			if n := len([]rune(line)); n > size[0] {
+				t.Errorf("a line of %d cells at width %d: %q", n, size[0], line)
+			}
+		}
+	}
+}
+
+func itoa(n int) string { return strconv.Itoa(n) }
+
+// BenchmarkView renders a frame with 100 flow lines at 200x60.
+func BenchmarkView(b *testing.B) {
+	m := newSolved(b, Options{Scenario: "monolayer"}, 200, 60)
+	var lines [][][2]float64
+	for len(lines) < 100 {
+		lines = append(lines, m.lines...)
+	}
+	m.lines = lines[:100]
+	b.ReportAllocs()
+	for b.Loop() {
+		m.render()
+		_ = m.View()
+	}
+}
+
+// BenchmarkStepKey is a keypress that steps the flow, with the redraw.
+func BenchmarkStepKey(b *testing.B) {
+	m := newSolved(b, Options{Scenario: "monolayer"}, 120, 40)
+	b.ReportAllocs()
+	for b.Loop() {
+		mm := press(m, " ")
+		_ = mm.View()
+	}
+}
+
+var _ = context.Background
