@@ -54,12 +54,12 @@ const Legend = "o sink  X critical  * multicritical  # discontinuity  + source  
 // Frame is a rendered plot: the rows of the drawing area with axes, and
 // the cell geometry to map a click back to couplings.
 type Frame struct {
-	Rows         []string
-	Styles       [][]int
-	Left, Top    int // offset of the canvas in the frame
-	CanvasW      int
-	CanvasH      int
-	AX, AY       Axis
+	Rows      []string
+	Styles    [][]int
+	Left, Top int // offset of the canvas in the frame
+	CanvasW   int
+	CanvasH   int
+	AX, AY    Axis
 }
 
 // Render draws the plot into w×h cells: a y-axis gutter of 8 cells on the

@@ -9,7 +9,7 @@ import (
 // Styles are every style of the explorer, in one place.
 type Styles struct {
 	Title, Status, Panel, PanelTitle, Dim, Error, Caution lipgloss.Style
-	Marks                                                  map[int]lipgloss.Style
+	Marks                                                 map[int]lipgloss.Style
 }
 
 // DefaultStyles returns the palette; with NO_COLOR set (or a monochrome
