@@ -42,7 +42,7 @@ var functions1 = map[string]fn1{
 }
 
 var functions2 = map[string]func(float64, float64) float64{
-	"pow": math.Pow, "atan2": math.Atan2, "min": math.Min, "max": math.Max,
+	"pow": math.Pow, "atan2": math.Atan2,
 }
 
 // FunctionNames lists the functions a formula may call.
@@ -91,8 +91,28 @@ func (e *FormulaError) Unwrap() error { return ErrFormula }
 // allowed checks the syntax tree against the formula language.
 type allowed struct {
 	symbols map[string]bool
+	callees map[ast.Node]bool // identifiers that name a called function
 	err     *FormulaError
 	src     string
+}
+
+// floatLiterals makes every integer literal a float, so that arithmetic is
+// in floating point throughout (no integer overflow or truncation).
+type floatLiterals struct{}
+
+func (floatLiterals) Visit(node *ast.Node) {
+	if n, ok := (*node).(*ast.IntegerNode); ok {
+		ast.Patch(node, &ast.FloatNode{Value: float64(n.Value)})
+	}
+}
+
+// calleeFinder collects the identifiers in call position.
+type calleeFinder map[ast.Node]bool
+
+func (c calleeFinder) Visit(node *ast.Node) {
+	if call, ok := (*node).(*ast.CallNode); ok {
+		c[call.Callee] = true
+	}
 }
 
 func (a *allowed) fail(n ast.Node, msg string) {
@@ -107,6 +127,9 @@ func (a *allowed) Visit(node *ast.Node) {
 	switch n := (*node).(type) {
 	case *ast.IntegerNode, *ast.FloatNode:
 	case *ast.IdentifierNode:
+		if a.callees[n] {
+			return // checked at the call
+		}
 		if !a.symbols[n.Value] {
 			if _, ok := functions1[n.Value]; ok {
 				return // a function name, checked at its call
@@ -142,7 +165,18 @@ func (a *allowed) Visit(node *ast.Node) {
 			}
 			return
 		}
-		a.fail(n, fmt.Sprintf("unknown function %q; accepted: %s", id.Value, strings.Join(FunctionNames(), ", ")))
+		a.fail(n, fmt.Sprintf("unknown function %q; only the listed functions may be called: %s", id.Value, strings.Join(FunctionNames(), ", ")))
+	case *ast.BuiltinNode:
+		// The parser, run without the compiler's configuration, reads a
+		// few of our function names (abs) as its own builtins; the
+		// compiler, with builtins off, calls ours.
+		if _, ok := functions1[n.Name]; ok && len(n.Arguments) == 1 {
+			return
+		}
+		if _, ok := functions2[n.Name]; ok && len(n.Arguments) == 2 {
+			return
+		}
+		a.fail(n, fmt.Sprintf("unknown function %q; only the listed functions may be called: %s", n.Name, strings.Join(FunctionNames(), ", ")))
 	default:
 		a.fail(n, "only numbers, symbols, + - * / ^, parentheses and the listed functions are allowed")
 	}
@@ -174,7 +208,9 @@ func CompileFormula(src string, symbols []string) (*Formula, error) {
 	if err != nil {
 		return nil, exprError(src, err)
 	}
-	chk := &allowed{symbols: syms, src: src}
+	callees := calleeFinder{}
+	ast.Walk(&tree.Node, callees)
+	chk := &allowed{symbols: syms, callees: callees, src: src}
 	ast.Walk(&tree.Node, chk)
 	if chk.err != nil {
 		return nil, chk.err
@@ -183,7 +219,7 @@ func CompileFormula(src string, symbols []string) (*Formula, error) {
 	for s := range syms {
 		env[s] = 0.0
 	}
-	opts := []expr.Option{expr.Env(env), expr.AsFloat64(), expr.DisableAllBuiltins(), expr.MaxNodes(2000)}
+	opts := []expr.Option{expr.Env(env), expr.AsFloat64(), expr.DisableAllBuiltins(), expr.MaxNodes(2000), expr.Patch(floatLiterals{})}
 	for name, f := range functions1 {
 		f := f
 		opts = append(opts, expr.Function(name, func(p ...any) (any, error) { return f(p[0].(float64)), nil }, new(func(float64) float64)))

@@ -53,6 +53,15 @@ func FuzzParse(f *testing.F) {
 		f.Add([]byte(s))
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
+		// parseLimit: parsing, building and one step of a scenario take
+		// milliseconds. A watchdog beyond it crashes the worker with the
+		// input, so that the fuzzer keeps the input that hangs (a t.Fatal
+		// cannot run while the test goroutine is stuck).
+		const parseLimit = 10 * time.Second
+		dog := time.AfterFunc(parseLimit, func() {
+			panic(fmt.Sprintf("Parse/Build/Step did not finish within %v on %q", parseLimit, data))
+		})
+		defer dog.Stop()
 		const name = "fuzz.toml"
 		s, err := scenarios.Parse(name, data)
 		if (s == nil) == (err == nil) {

@@ -482,10 +482,8 @@ func (s *Scenario) userMap(set map[string]string) (*UserMap, error) {
 			x[i] = p
 		}
 		g := m.Step(dst, x)
-		for i, v := range dst {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, s.errAt("recursion.coupling", i, "next", "the formula for %s' is not finite at %s", ucs[i].Name, pointText(names, x))
-			}
+		if i := m.failing(x); i >= 0 {
+			return nil, s.errAt("recursion.coupling", i, "next", "the formula for %s' is not finite at %s", ucs[i].Name, pointText(names, x))
 		}
 		if cf != nil && (math.IsNaN(g) || math.IsInf(g, 0)) {
 			return nil, s.errAt("recursion", -1, "constant", "the constant g is not finite at %s", pointText(names, x))
@@ -495,6 +493,13 @@ func (s *Scenario) userMap(set map[string]string) (*UserMap, error) {
 		for _, cp := range []*flow.Compact{c.Plus, c.Minus} {
 			if cp == nil {
 				continue
+			}
+			sign := 1.0
+			if cp == c.Minus {
+				sign = -1
+			}
+			if far, near := cp.U(40*sign), cp.U(5*sign); !(far > 0 && far < 1e-6 && far < near) {
+				return nil, s.errAt("recursion.coupling", i, "name", "the coordinate %s of %s must be positive and fall to 0 as %s runs to %s (it is %g at %s = %g)", cp.Name, c.Name, c.Name, map[bool]string{true: "+infinity", false: "-infinity"}[sign > 0], far, c.Name, 40*sign)
 			}
 			for _, v := range []float64{0.5, 2, 5} {
 				if cp == c.Minus {

@@ -156,3 +156,20 @@ var (
 	_ flow.Symmetrist = (*UserMap)(nil)
 	_ flow.Domainer   = (*UserMap)(nil)
 )
+
+// failing returns the index of the first coupling whose formula is not
+// finite at x, or −1.
+func (m *UserMap) failing(x []float64) int {
+	st := m.pool.Get().(*evalState)
+	defer m.pool.Put(st)
+	for i, c := range m.couplings {
+		st.env[c.Name] = x[i]
+	}
+	for i, c := range m.couplings {
+		v, err := c.Next.Eval(&st.vm, st.env)
+		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+			return i
+		}
+	}
+	return -1
+}
