@@ -497,16 +497,23 @@ func (m Model) styleRow(row string, styles []int) string {
 		return m.styles.Dim.Render(row)
 	}
 	var b strings.Builder
-	for i, r := range []rune(row) {
+	runes := []rune(row)
+	// Render runs of equal style at once.
+	for i := 0; i < len(runes); {
 		s := 0
 		if i < len(styles) {
 			s = styles[i]
 		}
-		if st, ok := m.styles.Marks[s]; ok && s != 0 {
-			b.WriteString(st.Render(string(r)))
-		} else {
-			b.WriteRune(r)
+		j := i + 1
+		for j < len(runes) && j < len(styles) && styles[j] == s {
+			j++
 		}
+		if st, ok := m.styles.Marks[s]; ok && s != 0 {
+			b.WriteString(st.Render(string(runes[i:j])))
+		} else {
+			b.WriteString(string(runes[i:j]))
+		}
+		i = j
 	}
 	return b.String()
 }

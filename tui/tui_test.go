@@ -9,14 +9,21 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/x/ansi"
+	"github.com/charmbracelet/x/exp/teatest"
 
 	"scalewalk/flow"
 )
 
-var update = flag.Bool("update", false, "rewrite the golden files")
+// updating reports whether -update was given; the flag is registered by
+// the golden-file package teatest uses, and serves our goldens too.
+func updating() bool {
+	f := flag.Lookup("update")
+	return f != nil && f.Value.String() == "true"
+}
 
 // newSolved returns the explorer on a study with its computation run
 // synchronously, at the given size.
@@ -236,7 +243,7 @@ func TestGoldenViews(t *testing.T) {
 		m := newSolved(t, Options{Scenario: "monolayer"}, size[0], size[1])
 		got := ansi.Strip(m.View())
 		name := filepath.Join("testdata", "monolayer-"+itoa(size[0])+"x"+itoa(size[1])+".golden")
-		if *update {
+		if updating() {
 			os.MkdirAll("testdata", 0o755)
 			os.WriteFile(name, []byte(got), 0o644)
 			continue
@@ -284,3 +291,33 @@ func BenchmarkStepKey(b *testing.B) {
 }
 
 var _ = context.Background
+
+// A whole-program run through bubbletea's test harness: the explorer
+// starts, the fixed points arrive from the background command, a step
+// moves the point, and q quits with the final model readable.
+func TestProgramRun(t *testing.T) {
+	m, err := New(Options{Scenario: "monolayer"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	tm := teatest.NewTestModel(t, m, teatest.WithInitialTermSize(100, 30))
+	teatest.WaitFor(t, tm.Output(), func(b []byte) bool { return strings.Contains(string(b), "fixed point(s)") },
+		teatest.WithDuration(20*time.Second))
+	tm.Send(tea.KeyMsg{Type: tea.KeySpace, Runes: []rune{' '}})
+	tm.Send(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("q")})
+	fm := tm.FinalModel(t, teatest.WithFinalTimeout(10*time.Second)).(Model)
+	if len(fm.points) == 0 || len(fm.trail) != 2 {
+		t.Errorf("final model: %d fixed points, %d trail rows; want the points and one step", len(fm.points), len(fm.trail))
+	}
+}
+
+// BenchmarkFirstFrame is the start to the first frame (axes, status,
+// spinner), before any computation has returned.
+func BenchmarkFirstFrame(b *testing.B) {
+	b.ReportAllocs()
+	for b.Loop() {
+		m, _ := New(Options{Scenario: "monolayer"})
+		mm, _ := m.Update(tea.WindowSizeMsg{Width: 120, Height: 40})
+		_ = mm.View()
+	}
+}
