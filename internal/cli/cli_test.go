@@ -375,3 +375,53 @@ func TestScenarioBadInput(t *testing.T) {
 		}
 	}
 }
+
+// thermo --json on the Ising chain keeps the contract's names, gives
+// ln Z/N = ln 2 at zero couplings (Z = 2^N), and at a point in a field the
+// exact values of R. J. Baxter (Exactly Solved Models, 1982, ch. 2):
+// ψ = K + ln[cosh h + √(sinh²h + e^{−4K})] and m = sinh h/√(sinh²h + e^{−4K})
+// (by hand), and the curvature R = 1 + cosh h/√(sinh²h + e^{−4K}) (Dolan,
+// Johnston, Kenna, J. Phys. A 35, 9025, 2002).
+func TestThermoJSON(t *testing.T) {
+	code, out, errs := run("thermo", "--model", "ising", "--scheme", "chain", "--along", "K=0:0.8:3", "--at", "h=0.3", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc struct {
+		Points []map[string]any `json:"points"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"values", "free_energy", "energy", "specific_heat", "magnetization", "spontaneous_magnetization",
+		"susceptibility", "correlation_length", "metric", "curvature", "flags"} {
+		if _, ok := doc.Points[0][k]; !ok {
+			t.Errorf("point lacks %q", k)
+		}
+	}
+	last := doc.Points[2]
+	K, h := 0.8, 0.3
+	s := math.Sqrt(math.Sinh(h)*math.Sinh(h) + math.Exp(-4*K))
+	if f := last["free_energy"].(float64); math.Abs(f-(K+math.Log(math.Cosh(h)+s))) > 1e-10 {
+		t.Errorf("free energy %.12g", f)
+	}
+	if m := last["magnetization"].(float64); math.Abs(m-math.Sinh(h)/s) > 1e-8 {
+		t.Errorf("magnetization %.12g, want %.12g", m, math.Sinh(h)/s)
+	}
+	if r := last["curvature"].(float64); math.Abs(r-(1+math.Cosh(h)/s)) > 1e-6*r {
+		t.Errorf("curvature %.10g, want %.10g", r, 1+math.Cosh(h)/s)
+	}
+	code, out, _ = run("thermo", "--model", "ising", "--scheme", "bondmove", "--along", "K=0:0.1:2", "--json")
+	if code != 0 {
+		t.Fatal("thermo bondmove failed")
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if f := doc.Points[0]["free_energy"].(float64); math.Abs(f-math.Ln2) > 1e-12 {
+		t.Errorf("ln Z/N at zero couplings = %.15g, want ln 2", f)
+	}
+	if doc.Points[0]["susceptibility"] != nil || len(doc.Points[0]["flags"].([]any)) == 0 {
+		t.Errorf("bond moving at the disordered sink: the susceptibility must be null with a flag, got %v", doc.Points[0]["susceptibility"])
+	}
+}

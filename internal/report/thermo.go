@@ -1,0 +1,169 @@
+package report
+
+import (
+	"fmt"
+	"io"
+	"strings"
+	"text/tabwriter"
+
+	"scalewalk/flow"
+)
+
+// ThermoPoint is the thermodynamics at one point; NaN where not available.
+type ThermoPoint struct {
+	X               []float64
+	F, U, C, M, Chi float64
+	M0, Xi          float64
+	Metric          [][]float64
+	Det, R          float64
+	Flags           []string
+}
+
+// ThermoDoc is everything `thermo` reports.
+type ThermoDoc struct {
+	Meta        Meta
+	Map         flow.Map
+	Metric      []int
+	Points      []ThermoPoint
+	Temperature bool
+	T           []float64
+}
+
+// ThermoPointJSON is one point in the `thermo --json` contract.
+type ThermoPointJSON struct {
+	T                        *Num           `json:"T,omitempty"`
+	Values                   map[string]Num `json:"values"`
+	FreeEnergy               Num            `json:"free_energy"`
+	Energy                   Num            `json:"energy"`
+	SpecificHeat             Num            `json:"specific_heat"`
+	Magnetization            Num            `json:"magnetization"`
+	SpontaneousMagnetization Num            `json:"spontaneous_magnetization"`
+	Susceptibility           Num            `json:"susceptibility"`
+	CorrelationLength        Num            `json:"correlation_length"`
+	Metric                   [][]Num        `json:"metric"`
+	Determinant              Num            `json:"metric_determinant"`
+	Curvature                Num            `json:"curvature"`
+	Flags                    []string       `json:"flags"`
+}
+
+// ThermoJSON is the `thermo --json` document.
+type ThermoJSON struct {
+	Model       string            `json:"model"`
+	Scheme      string            `json:"scheme"`
+	Params      map[string]any    `json:"parameters"`
+	Metric      []string          `json:"metric_couplings"`
+	Conventions map[string]string `json:"conventions"`
+	Points      []ThermoPointJSON `json:"points"`
+}
+
+func thermoConventions() map[string]string {
+	return map[string]string{
+		"free_energy":    "ln Z/N per site, dimensionless (= -beta f)",
+		"energy":         "u = -d(ln Z/N)/d(beta) along the ray on which every coupling scales as 1/T, in units of the exchange",
+		"specific_heat":  "C/k_B = beta^2 d^2(ln Z/N)/d(beta)^2 = sum_ij x_i x_j g_ij, per site",
+		"magnetization":  "d(ln Z/N)/dh per site, reduced",
+		"susceptibility": "d^2(ln Z/N)/dh^2 per site, reduced",
+		"metric":         "g_ij = d^2(ln Z/N)/dx_i dx_j over the metric couplings, dimensionless",
+		"curvature":      "scalar curvature of the metric, dimensionless; R > 0 on a round sphere, R = 2 x Gaussian curvature for two couplings",
+	}
+}
+
+// Thermo builds the JSON document.
+func Thermo(d ThermoDoc) ThermoJSON {
+	names := flow.Names(d.Map)
+	j := ThermoJSON{Model: d.Meta.Model, Scheme: d.Meta.Scheme, Params: d.Meta.Params, Conventions: thermoConventions(), Points: []ThermoPointJSON{}}
+	for _, i := range d.Metric {
+		j.Metric = append(j.Metric, names[i])
+	}
+	for k, p := range d.Points {
+		pj := ThermoPointJSON{Values: map[string]Num{}, FreeEnergy: Num(p.F), Energy: Num(p.U), SpecificHeat: Num(p.C),
+			Magnetization: Num(p.M), SpontaneousMagnetization: Num(p.M0), Susceptibility: Num(p.Chi),
+			CorrelationLength: Num(p.Xi), Determinant: Num(p.Det), Curvature: Num(p.R), Flags: append([]string{}, p.Flags...)}
+		if d.Temperature && k < len(d.T) {
+			t := Num(d.T[k])
+			pj.T = &t
+		}
+		for i, n := range names {
+			pj.Values[n] = Num(p.X[i])
+		}
+		for _, r := range p.Metric {
+			var row []Num
+			for _, v := range r {
+				row = append(row, Num(v))
+			}
+			pj.Metric = append(pj.Metric, row)
+		}
+		if p.M0 != p.M0 {
+			pj.Flags = append(pj.Flags, "spontaneous magnetization and correlation length not computed by this version")
+		}
+		j.Points = append(j.Points, pj)
+	}
+	return j
+}
+
+func thermoHeader(d ThermoDoc) []string {
+	names := flow.Names(d.Map)
+	h := []string{}
+	if d.Temperature {
+		h = append(h, "T")
+	}
+	h = append(h, names...)
+	h = append(h, "free_energy", "energy", "specific_heat", "magnetization", "susceptibility")
+	for a, i := range d.Metric {
+		for b := a; b < len(d.Metric); b++ {
+			h = append(h, fmt.Sprintf("g_%s_%s", names[i], names[d.Metric[b]]))
+		}
+	}
+	return append(h, "metric_det", "curvature", "flags")
+}
+
+func thermoRow(d ThermoDoc, k int, f func(float64) string) []string {
+	p := d.Points[k]
+	var r []string
+	if d.Temperature {
+		r = append(r, f(d.T[k]))
+	}
+	for _, v := range p.X {
+		r = append(r, f(v))
+	}
+	r = append(r, f(p.F), f(p.U), f(p.C), f(p.M), f(p.Chi))
+	for a := range d.Metric {
+		for b := a; b < len(d.Metric); b++ {
+			v := nanF()
+			if p.Metric != nil {
+				v = p.Metric[a][b]
+			}
+			r = append(r, f(v))
+		}
+	}
+	return append(r, f(p.Det), f(p.R), strings.Join(p.Flags, "; "))
+}
+
+func nanF() float64 { var z float64; return z / z }
+
+// ThermoCSV writes one row per point.
+func ThermoCSV(w io.Writer, d ThermoDoc) error {
+	rows := [][]string{thermoHeader(d)}
+	for k := range d.Points {
+		rows = append(rows, thermoRow(d, k, CSV))
+	}
+	return writeCSV(w, rows)
+}
+
+// ThermoText writes an aligned table with the conventions.
+func ThermoText(w io.Writer, d ThermoDoc) error {
+	var b strings.Builder
+	fmt.Fprintf(&b, "model %s, scheme %s (%s)\n", d.Meta.Model, d.Meta.Scheme, paramString(d.Meta.Params))
+	conv := thermoConventions()
+	for _, k := range []string{"free_energy", "energy", "specific_heat", "metric", "curvature"} {
+		fmt.Fprintf(&b, "# %s: %s\n", k, conv[k])
+	}
+	tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, strings.Join(thermoHeader(d), "\t")+"\t")
+	for k := range d.Points {
+		fmt.Fprintln(tw, strings.Join(thermoRow(d, k, func(v float64) string { return Text(v, 7) }), "\t")+"\t")
+	}
+	tw.Flush()
+	_, err := io.WriteString(w, b.String())
+	return err
+}
