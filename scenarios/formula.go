@@ -170,10 +170,16 @@ func (a *allowed) Visit(node *ast.Node) {
 		// The parser, run without the compiler's configuration, reads a
 		// few of our function names (abs) as its own builtins; the
 		// compiler, with builtins off, calls ours.
-		if _, ok := functions1[n.Name]; ok && len(n.Arguments) == 1 {
+		if _, ok := functions1[n.Name]; ok {
+			if len(n.Arguments) != 1 {
+				a.fail(n, fmt.Sprintf("%s takes one argument", n.Name))
+			}
 			return
 		}
-		if _, ok := functions2[n.Name]; ok && len(n.Arguments) == 2 {
+		if _, ok := functions2[n.Name]; ok {
+			if len(n.Arguments) != 2 {
+				a.fail(n, fmt.Sprintf("%s takes two arguments", n.Name))
+			}
 			return
 		}
 		a.fail(n, fmt.Sprintf("unknown function %q; only the listed functions may be called: %s", n.Name, strings.Join(FunctionNames(), ", ")))

@@ -375,9 +375,9 @@ func TestFormulaArithmetic(t *testing.T) {
 }
 
 // Every function that FunctionNames() lists can be called in a formula
-// (with one or two arguments). abs, min and max are listed in formula.go but
-// the expression parser turns them into its own builtins, which the
-// checker rejects (see the report).
+// (with one or two arguments). Regression: abs, min and max were listed but
+// the expression parser read them as its own builtins, which the checker
+// rejected; abs must work, and no listed name may be unusable.
 func TestFormulaListedFunctionsCallable(t *testing.T) {
 	for _, name := range scenarios.FunctionNames() {
 		_, e1 := scenarios.CompileFormula(name+"(K)", []string{"K"})
@@ -386,11 +386,36 @@ func TestFormulaListedFunctionsCallable(t *testing.T) {
 			t.Errorf("listed function %s cannot be called: %v / %v", name, e1, e2)
 		}
 	}
+	// |x| for a negative argument (elementary).
+	f, err := scenarios.CompileFormula("abs(K - 1)", []string{"K"})
+	if err != nil {
+		t.Fatalf("abs(K - 1): %v", err)
+	}
+	var v vm.VM
+	if got, err := f.Eval(&v, map[string]any{"K": 0.25, "pi": math.Pi}); err != nil || got != 0.75 {
+		t.Errorf("abs(0.25 - 1) = %g (%v), want 0.75", got, err)
+	}
+}
+
+// A listed function called with the wrong number of arguments is reported
+// as that, not as an unknown function.
+func TestFormulaArityMessage(t *testing.T) {
+	for _, src := range []string{"exp(K, K)", "abs(K, K)", "pow(K)", "atan2(K)"} {
+		_, err := scenarios.CompileFormula(src, []string{"K"})
+		var fe *scenarios.FormulaError
+		if !errors.As(err, &fe) {
+			t.Errorf("%s: %v, want a *FormulaError", src, err)
+			continue
+		}
+		if strings.Contains(fe.Msg, "unknown function") || !strings.Contains(fe.Msg, "argument") {
+			t.Errorf("%s: message %q, want one about the number of arguments", src, fe.Msg)
+		}
+	}
 }
 
 // Integer literals in a formula must follow real arithmetic: 10^5 four times
-// over is 1e20, and 2^63 - 1 plus 1 is 2^63. (The expression library
-// evaluates integer-only subexpressions in int64, which wraps.)
+// over is 1e20, and 2^63 - 1 plus 1 is 2^63. (Regression: the expression
+// library evaluated integer-only subexpressions in int64, which wraps.)
 func TestFormulaIntegerLiteralsAreReal(t *testing.T) {
 	for _, tc := range []struct {
 		src  string
@@ -439,8 +464,8 @@ func TestFormulaRejects(t *testing.T) {
 }
 
 // An unknown function is reported as one, with the accepted functions
-// listed (formula.go has that message, but the checker meets the callee as
-// a plain identifier first and reports an unknown symbol; see the report).
+// listed. (Regression: the checker met the callee as a plain identifier
+// first and reported an unknown symbol, listing the couplings instead.)
 func TestFormulaUnknownFunctionMessage(t *testing.T) {
 	_, err := scenarios.CompileFormula("foo(K)", []string{"K"})
 	var fe *scenarios.FormulaError

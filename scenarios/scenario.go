@@ -190,7 +190,27 @@ func tomlError(name string, data []byte, err error) error {
 	var de *toml.DecodeError
 	if errors.As(err, &de) {
 		line, col := de.Position()
-		return &Error{File: name, Line: line, Column: col, Msg: de.Error()}
+		msg := de.Error()
+		if strings.Contains(msg, "cannot decode") {
+			want := "another type"
+			switch {
+			case strings.Contains(msg, "float64") || strings.Contains(msg, "int"):
+				want = "a number"
+			case strings.Contains(msg, "string"):
+				want = "a quoted string"
+			case strings.Contains(msg, "bool"):
+				want = "true or false"
+			}
+			given := "a value"
+			if i := strings.Index(msg, "cannot decode "); i >= 0 {
+				rest := msg[i+len("cannot decode "):]
+				if j := strings.Index(rest, " into"); j > 0 {
+					given = rest[:j]
+				}
+			}
+			msg = fmt.Sprintf("key %q has a value of the wrong type (%s); expected %s", strings.Join(de.Key(), "."), given, want)
+		}
+		return &Error{File: name, Line: line, Column: col, Msg: msg}
 	}
 	return &Error{File: name, Msg: err.Error()}
 }
@@ -262,7 +282,16 @@ func (s *Scenario) validate() error {
 func (s *Scenario) tableParams(table string, t ModelTable) (string, map[string]string, error) {
 	name, ok := t["name"].(string)
 	if !ok || name == "" {
-		return "", nil, s.errAt(table, -1, "name", "[%s] needs name = \"...\"", table)
+		var found []string
+		for k := range t {
+			found = append(found, k)
+		}
+		sort.Strings(found)
+		line := 0
+		if len(found) > 0 {
+			line = s.locate(table, -1, found[0])
+		}
+		return "", nil, &Error{File: s.Source, Line: line, Msg: fmt.Sprintf("[%s] needs name = \"...\" (keys found: %s)", table, strings.Join(found, ", "))}
 	}
 	out := map[string]string{}
 	for k, v := range t {
@@ -498,8 +527,8 @@ func (s *Scenario) userMap(set map[string]string) (*UserMap, error) {
 			if cp == c.Minus {
 				sign = -1
 			}
-			if far, near := cp.U(40*sign), cp.U(5*sign); !(far > 0 && far < 1e-6 && far < near) {
-				return nil, s.errAt("recursion.coupling", i, "name", "the coordinate %s of %s must be positive and fall to 0 as %s runs to %s (it is %g at %s = %g)", cp.Name, c.Name, c.Name, map[bool]string{true: "+infinity", false: "-infinity"}[sign > 0], far, c.Name, 40*sign)
+			if far, near := cp.U(400*sign), cp.U(5*sign); !(far >= 0 && near > 0 && far < 0.05*near) {
+				return nil, s.errAt("recursion.coupling", i, "name", "the coordinate %s of %s must be positive and fall to 0 as %s runs to %s (it is %g at %s = %g)", cp.Name, c.Name, c.Name, map[bool]string{true: "+infinity", false: "-infinity"}[sign > 0], far, c.Name, 400*sign)
 			}
 			for _, v := range []float64{0.5, 2, 5} {
 				if cp == c.Minus {

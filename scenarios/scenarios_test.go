@@ -377,9 +377,9 @@ func TestMonolayerExchangeIsLatticeGasJ(t *testing.T) {
 // A compact coordinate at +inf (or -inf) must go to 0 as the coupling goes
 // to that infinity (flow.Compact: "u -> 0+ as x -> +-inf"). u = exp(-2K)
 // declared for K -> -inf grows without bound there; it is positive and
-// inverts correctly, so the loader's checks pass it, and the finder then
-// reports a "K = -inf" fixed point that is really K = +inf (see the report).
-// The loader should reject it.
+// inverts correctly. Regression: the loader passed it, and the finder then
+// reported a "K = -inf" fixed point of the ferromagnetic MK map, which has
+// none (tanh K' = tanh^2 2K >= 0). The loader must reject it.
 func TestCompactMustVanishAtItsInfinity(t *testing.T) {
 	const text = `[scenario]
 name = "wrong-way"
@@ -399,4 +399,28 @@ minus = { u = "exp(-2*K)", x = "-log(u)/2" }
 		t.Fatalf("a minus coordinate exp(-2K), which grows as K -> -inf, was accepted")
 	}
 	scenarioError(t, err)
+}
+
+// A coordinate that does vanish at its infinity is accepted however slowly
+// it decays: exp(-K/10) and exp(K/10) meet flow.Compact's contract ("u -> 0+
+// as x -> +-inf and u > 0 for finite x on that side") just as exp(-2K) does
+// (flow.ExpCompact builds the same family for any a > 0).
+func TestCompactSlowDecayAccepted(t *testing.T) {
+	const text = `[scenario]
+name = "slow"
+
+[recursion]
+b = 2
+d = 2
+
+[[recursion.coupling]]
+name = "K"
+role = "exchange"
+next = "2*K"
+plus = { u = "exp(-K/10)", x = "-10*log(u)" }
+minus = { u = "exp(K/10)", x = "10*log(u)" }
+`
+	if _, err := scenarios.Parse("slow.toml", []byte(text)); err != nil {
+		t.Errorf("a slowly vanishing coordinate is rejected: %v", err)
+	}
 }
