@@ -14,6 +14,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/x/ansi"
 
+	"scalewalk/decimation"
 	"scalewalk/flow"
 	"scalewalk/internal/report"
 	"scalewalk/scenarios"
@@ -64,6 +65,7 @@ type Model struct {
 	choices []string // scenario picker
 	choice  int
 	inputs  []textinput.Model // parameter form
+	fields  []decimation.Param
 	focus   int
 	export  textinput.Model
 }

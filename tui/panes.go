@@ -233,13 +233,38 @@ func (m Model) keyScenarios(msg tea.KeyMsg) (tea.Model, tea.Cmd) {
 }
 
 // openParams builds the form from the parameter metadata.
+// formSpecs are the fields of the parameter form: the model and the
+// scheme (for a built-in engine), then their parameters, all from the
+// metadata the command line uses.
+func (m *Model) formSpecs() []decimation.Param {
+	var out []decimation.Param
+	if m.src.engine {
+		var models, schemes []string
+		for _, ms := range decimation.Models() {
+			models = append(models, ms.Name)
+		}
+		for _, ss := range decimation.Schemes() {
+			schemes = append(schemes, ss.Name)
+		}
+		out = append(out,
+			decimation.Param{Name: "model", Kind: decimation.Choice, Choices: models, Help: "spin model"},
+			decimation.Param{Name: "scheme", Kind: decimation.Choice, Choices: schemes, Help: "RG scheme"})
+	}
+	return append(out, m.src.specs...)
+}
+
 func (m *Model) openParams() {
 	m.inputs = nil
-	for _, p := range m.src.specs {
+	m.fields = m.formSpecs()
+	vals := map[string]string{"model": m.src.model, "scheme": m.src.scheme}
+	for k, v := range m.src.values {
+		vals[k] = v
+	}
+	for _, p := range m.fields {
 		p := p
 		in := textinput.New()
 		in.Prompt = fmt.Sprintf("%-6s ", p.Name)
-		in.SetValue(m.src.values[p.Name])
+		in.SetValue(vals[p.Name])
 		in.Placeholder = p.Range()
 		in.Validate = func(s string) error {
 			if p.Kind == decimation.Real && math.IsInf(p.Min, -1) {
@@ -280,15 +305,41 @@ func (m Model) keyParams(msg tea.KeyMsg) (tea.Model, tea.Cmd) {
 		for k, v := range m.src.opts.Set {
 			set[k] = v
 		}
-		for i, p := range m.src.specs {
+		model, scheme := m.src.model, m.src.scheme
+		for i, p := range m.fields {
 			if m.inputs[i].Err != nil {
 				m.focus = i
 				return m, nil
 			}
-			set[p.Name] = strings.TrimSpace(m.inputs[i].Value())
+			v := strings.TrimSpace(m.inputs[i].Value())
+			switch p.Name {
+			case "model":
+				model = v
+			case "scheme":
+				scheme = v
+			default:
+				set[p.Name] = v
+			}
 		}
 		o := m.src.opts
 		o.Set = set
+		if model != m.src.model || scheme != m.src.scheme {
+			// A new model or scheme: keep the values of the parameters it
+			// shares with the old ones, defaults for the rest.
+			ms, err1 := decimation.LookupModel(model)
+			ss, err2 := decimation.LookupScheme(scheme)
+			if err1 != nil || err2 != nil {
+				m.err = "unknown model or scheme"
+				return m, nil
+			}
+			keep := map[string]string{}
+			for k, v := range set {
+				if hasParam(ms.Params, k) || hasParam(ss.Params, k) {
+					keep[k] = v
+				}
+			}
+			o = Options{Model: model, Scheme: scheme, Set: keep}
+		}
 		src, err := build(o)
 		if err != nil {
 			m.err = err.Error()

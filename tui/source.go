@@ -32,6 +32,7 @@ type source struct {
 	material *scenarios.Material
 	slice    *scenarios.SliceFile
 	cautions []string
+	engine   bool // a built-in model and scheme (not user formulas)
 }
 
 func build(o Options) (*source, error) {
@@ -54,6 +55,8 @@ func build(o Options) (*source, error) {
 		}
 		s.slice = sc.File.Slice
 		if b.Engine != nil {
+			s.engine = true
+			s.model, s.scheme = b.Engine.ModelName, b.Engine.SchemeName
 			ms, _ := decimation.LookupModel(b.Engine.ModelName)
 			ss, _ := decimation.LookupScheme(b.Engine.SchemeName)
 			s.specs = append(append(s.specs, ms.Params...), ss.Params...)
@@ -100,6 +103,7 @@ func build(o Options) (*source, error) {
 			return nil, err
 		}
 		s.m, s.model, s.scheme = m, ms.Name, ss.Name
+		s.engine = true
 		s.params = map[string]any{}
 		for k, v := range mv {
 			s.params[k] = v

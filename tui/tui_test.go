@@ -222,17 +222,35 @@ func TestExportAtomic(t *testing.T) {
 func TestParamsForm(t *testing.T) {
 	m := newSolved(t, Options{Scenario: "monolayer"}, 100, 30)
 	m = press(m, "p")
-	if m.mode != modeParams || len(m.inputs) != 3 {
-		t.Fatalf("mode %v with %d inputs, want the form with d, b, order", m.mode, len(m.inputs))
+	if m.mode != modeParams || len(m.inputs) != 5 {
+		t.Fatalf("mode %v with %d inputs, want the form with model, scheme, d, b, order", m.mode, len(m.inputs))
 	}
-	if m.src.specs[0].Name != "d" {
-		t.Fatalf("first field %s", m.src.specs[0].Name)
+	if m.fields[2].Name != "d" {
+		t.Fatalf("third field %s", m.fields[2].Name)
 	}
-	m.inputs[0].SetValue("3")
+	m.inputs[2].SetValue("3")
 	mm, cmd := m.Update(tea.KeyMsg{Type: tea.KeyEnter})
 	m = mm.(Model)
 	if m.mode != modeMain || m.slice.M.Dimension() != 3 || cmd == nil {
 		t.Errorf("after d=3: mode %v, d = %g", m.mode, m.slice.M.Dimension())
+	}
+	// Switching the model keeps the scheme's parameters.
+	m = press(m, "p")
+	m.inputs[0].SetValue("potts")
+	mm, _ = m.Update(tea.KeyMsg{Type: tea.KeyEnter})
+	m = mm.(Model)
+	if m.src.model != "potts" || m.slice.M.Dimension() != 3 {
+		t.Errorf("after model=potts: model %s, d = %g", m.src.model, m.slice.M.Dimension())
+	}
+	// A bad value is refused with its range and the form stays open.
+	m = press(m, "p")
+	if m.fields[3].Name != "d" {
+		t.Fatalf("fourth field %s, want d", m.fields[3].Name)
+	}
+	m.inputs[3].SetValue("0.5") // d >= 1 is accepted
+	mm, _ = m.Update(tea.KeyMsg{Type: tea.KeyEnter})
+	if mm.(Model).mode != modeParams {
+		t.Error("a bad parameter value closed the form")
 	}
 }
 
