@@ -135,27 +135,44 @@ func (c *chart) solve(y0 []float64, s *FindSettings) newtonResult {
 		for a, i := range c.free {
 			r.SetVec(a, fy[i]-y[i])
 		}
-		if !finiteMatrix(jac) || !svd.Factorize(jac, mat.SVDThin) {
+		if !finiteMatrix(jac) {
 			break
 		}
-		vals := svd.Values(nil)
-		rank := 0
-		for _, v := range vals {
-			if v > 1e-9*math.Max(1, vals[0]) {
-				rank++
+		// A well-conditioned (J − I) is solved by LU; a singular or nearly
+		// singular one (a family, a marginal direction) by the SVD
+		// pseudo-inverse, which steps onto the family.
+		var lu mat.LU
+		lu.Factorize(jac)
+		solved := false
+		if lu.Cond() < 1e8 {
+			if err := lu.SolveVecTo(step, false, r); err == nil {
+				step.ScaleVec(-1, step)
+				solved = true
 			}
 		}
-		if rank == 0 {
-			break
-		}
-		var u, v mat.Dense
-		svd.UTo(&u)
-		svd.VTo(&v)
-		// step = −V Σ⁺ Uᵀ r
-		step.Zero()
-		for q := 0; q < rank; q++ {
-			coef := mat.Dot(u.ColView(q), r) / vals[q]
-			step.AddScaledVec(step, -coef, v.ColView(q))
+		if !solved {
+			if !svd.Factorize(jac, mat.SVDThin) {
+				break
+			}
+			vals := svd.Values(nil)
+			rank := 0
+			for _, v := range vals {
+				if v > 1e-9*math.Max(1, vals[0]) {
+					rank++
+				}
+			}
+			if rank == 0 {
+				break
+			}
+			var u, v mat.Dense
+			svd.UTo(&u)
+			svd.VTo(&v)
+			// step = −V Σ⁺ Uᵀ r
+			step.Zero()
+			for q := 0; q < rank; q++ {
+				coef := mat.Dot(u.ColView(q), r) / vals[q]
+				step.AddScaledVec(step, -coef, v.ColView(q))
+			}
 		}
 		// Cap the step so a start far from any fixed point does not jump
 		// across the domain.
