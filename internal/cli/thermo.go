@@ -271,8 +271,25 @@ func thermoPoint(m flow.Map, x []float64, metric []int) (p report.ThermoPoint) {
 	} else {
 		flag("specific heat", d)
 	}
+	if xi, ok := flow.CorrelationLength(m, x); ok {
+		p.Xi = xi
+		if m.Dimension() != 1 {
+			p.Flags = append(p.Flags, "correlation length known up to a factor of order one (exact only in one dimension)")
+		}
+	} else {
+		p.Flags = append(p.Flags, "correlation length: the flow does not reach the disordered sink here (ordered phase, or no estimate for this engine)")
+	}
 	for i, c := range cs {
 		if c.Role == flow.Field {
+			if ord, steps := flow.Ordered(m, x, e); e >= 0 && ord {
+				m0, limited := flow.SpontaneousMagnetization(m, x, i, steps)
+				p.M0 = m0 * perSite
+				if limited {
+					p.Flags = append(p.Flags, "spontaneous magnetization: close to T_c the limit h -> 0+ is limited by rounding")
+				}
+			} else if e >= 0 {
+				p.M0 = 0
+			}
 			dh := flow.FreeEnergyDerivatives(m, x, []int{i}, 2)
 			p.M = dh.Grad[0] * perSite
 			if ok(dh) {

@@ -93,9 +93,6 @@ func Thermo(d ThermoDoc) ThermoJSON {
 			}
 			pj.Metric = append(pj.Metric, row)
 		}
-		if p.M0 != p.M0 {
-			pj.Flags = append(pj.Flags, "spontaneous magnetization and correlation length not computed by this version")
-		}
 		j.Points = append(j.Points, pj)
 	}
 	return j
@@ -108,7 +105,7 @@ func thermoHeader(d ThermoDoc) []string {
 		h = append(h, "T")
 	}
 	h = append(h, names...)
-	h = append(h, "free_energy", "energy", "specific_heat", "magnetization", "susceptibility")
+	h = append(h, "free_energy", "energy", "specific_heat", "magnetization", "susceptibility", "spontaneous_magnetization", "correlation_length")
 	for a, i := range d.Metric {
 		for b := a; b < len(d.Metric); b++ {
 			h = append(h, fmt.Sprintf("g_%s_%s", names[i], names[d.Metric[b]]))
@@ -126,7 +123,7 @@ func thermoRow(d ThermoDoc, k int, f func(float64) string) []string {
 	for _, v := range p.X {
 		r = append(r, f(v))
 	}
-	r = append(r, f(p.F), f(p.U), f(p.C), f(p.M), f(p.Chi))
+	r = append(r, f(p.F), f(p.U), f(p.C), f(p.M), f(p.Chi), f(p.M0), f(p.Xi))
 	for a := range d.Metric {
 		for b := a; b < len(d.Metric); b++ {
 			v := nanF()
