@@ -104,6 +104,19 @@ disordered sink of bond moving) the value is null with a flag.`,
 				}
 			}
 			rows := thermoPoints(cmd.Context(), b.m, pts, mi)
+			if b.model != nil && strings.HasPrefix(b.model.Name(), "potts") {
+				// For Potts the field is on state 1: m is the fraction of
+				// sites in state 1, and the order parameter is (q m - 1)/(q - 1).
+				q := b.model.States()
+				for k := range rows {
+					if rows[k].M0 == rows[k].M0 {
+						rows[k].M0 = (q*rows[k].M0 - 1) / (q - 1)
+						if rows[k].M0 < 1e-12 {
+							rows[k].M0 = 0
+						}
+					}
+				}
+			}
 			doc := report.ThermoDoc{Meta: b.meta, Map: b.m, Metric: mi, Points: rows, Temperature: temp, T: ts}
 			switch {
 			case o.json:

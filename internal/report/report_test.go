@@ -165,3 +165,15 @@ func TestTraceCSV(t *testing.T) {
 		t.Errorf("%d rows, want %d", len(rows), len(tr.Points)+1)
 	}
 }
+
+func TestThermoJSONNonFinite(t *testing.T) {
+	m := flowtest.IsingChain2{}
+	for _, f := range []float64{math.Inf(1), math.Inf(-1), math.NaN()} {
+		p := ThermoPoint{X: []float64{f, f}, F: f, U: f, C: f, M: f, Chi: f, M0: f, Xi: f, Det: f, R: f, Metric: [][]float64{{f, f}, {f, f}}}
+		doc := Thermo(ThermoDoc{Meta: Meta{Model: "ising"}, Map: m, Metric: []int{0, 1}, Points: []ThermoPoint{p}, Temperature: true, T: []float64{f}})
+		b, err := json.Marshal(doc)
+		if err != nil || strings.Contains(string(b), "Inf") || strings.Contains(string(b), "NaN") {
+			t.Errorf("thermo JSON with %g: %v %s", f, err, b)
+		}
+	}
+}

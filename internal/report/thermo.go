@@ -58,13 +58,15 @@ type ThermoJSON struct {
 
 func thermoConventions() map[string]string {
 	return map[string]string{
-		"free_energy":    "ln Z/N per site, dimensionless (= -beta f)",
-		"energy":         "u = -d(ln Z/N)/d(beta) along the ray on which every coupling scales as 1/T, in units of the exchange",
-		"specific_heat":  "C/k_B = beta^2 d^2(ln Z/N)/d(beta)^2 = sum_ij x_i x_j g_ij, per site",
-		"magnetization":  "d(ln Z/N)/dh per site, reduced",
-		"susceptibility": "d^2(ln Z/N)/dh^2 per site, reduced",
-		"metric":         "g_ij = d^2(ln Z/N)/dx_i dx_j over the metric couplings, dimensionless",
-		"curvature":      "scalar curvature of the metric, dimensionless; R > 0 on a round sphere, R = 2 x Gaussian curvature for two couplings",
+		"free_energy":               "ln Z/N per site, dimensionless (= -beta f)",
+		"energy":                    "u = -d(ln Z/N)/d(beta) along the ray on which every coupling scales as 1/T, in units of the exchange",
+		"specific_heat":             "C/k_B = beta^2 d^2(ln Z/N)/d(beta)^2 = sum_ij x_i x_j g_ij, per site",
+		"magnetization":             "d(ln Z/N)/dh per site, reduced",
+		"susceptibility":            "d^2(ln Z/N)/dh^2 per site, reduced",
+		"spontaneous_magnetization": "lim h -> 0+ of the magnetization below T_c (0 above); for Potts the order parameter (q m - 1)/(q - 1), m the fraction of sites in state 1",
+		"correlation_length":        "xi(x) = b^n xi_hat(x_n) from the flow to the disordered sink, in lattice spacings; exact in one dimension, elsewhere up to a factor of order one",
+		"metric":                    "g_ij = d^2(ln Z/N)/dx_i dx_j over the metric couplings, dimensionless",
+		"curvature":                 "scalar curvature of the metric, dimensionless; R > 0 on a round sphere, R = 2 x Gaussian curvature for two couplings",
 	}
 }
 
