@@ -223,3 +223,15 @@ func bmParallel(m flow.Map) float64 {
 	}
 	return 1
 }
+
+// BenchmarkFreeEnergyThirdOrder is ln Z/N with every derivative to third
+// order in (K, h) at one point of the bond-moving Ising map in a field.
+func BenchmarkFreeEnergyThirdOrder(b *testing.B) {
+	bm, _ := NewBondMove(NewIsing(), 2, 2, MoveFirst)
+	x := []float64{0.25, 0.2}
+	b.ReportAllocs()
+	for b.Loop() {
+		d := flow.FreeEnergyDerivatives(bm, x, []int{0, 1}, 3)
+		sinkG = d.F
+	}
+}
