@@ -139,3 +139,88 @@ func LookupScheme(name string) (SchemeSpec, error) {
 	}
 	return SchemeSpec{}, fmt.Errorf("unknown scheme %q; accepted: %s", name, strings.Join(names, ", "))
 }
+
+// Built is a model and a scheme resolved from their names and parameter
+// values.
+type Built struct {
+	Map                       flow.Map
+	Model                     *Model
+	ModelSpec                 ModelSpec
+	SchemeSpec                SchemeSpec
+	ModelValues, SchemeValues Values
+}
+
+// Params returns the resolved model and scheme parameters together.
+func (b *Built) Params() map[string]any {
+	out := map[string]any{}
+	for k, v := range b.ModelValues {
+		out[k] = v
+	}
+	for k, v := range b.SchemeValues {
+		out[k] = v
+	}
+	return out
+}
+
+// Build resolves a model and a scheme by name with parameter values given
+// as text (name → value); each value goes to the model or the scheme that
+// has a parameter of that name. Errors name the problem and what is
+// accepted.
+func Build(model, scheme string, set map[string]string) (*Built, error) {
+	ms, err := LookupModel(model)
+	if err != nil {
+		return nil, err
+	}
+	ss, err := LookupScheme(scheme)
+	if err != nil {
+		return nil, err
+	}
+	mset, sset := map[string]string{}, map[string]string{}
+	for k, v := range set {
+		switch {
+		case hasParam(ms.Params, k):
+			mset[k] = v
+		case hasParam(ss.Params, k):
+			sset[k] = v
+		default:
+			return nil, &ParamError{Name: k, Value: v, Reason: fmt.Sprintf("no such parameter for model %s with scheme %s; accepted: %s", ms.Name, ss.Name, acceptedParams(ms, ss))}
+		}
+	}
+	mv, err := Resolve(ms.Params, mset)
+	if err != nil {
+		return nil, fmt.Errorf("model %s: %w", ms.Name, err)
+	}
+	sv, err := Resolve(ss.Params, sset)
+	if err != nil {
+		return nil, fmt.Errorf("scheme %s: %w", ss.Name, err)
+	}
+	mod, err := ms.New(mv)
+	if err != nil {
+		return nil, fmt.Errorf("model %s: %w", ms.Name, err)
+	}
+	m, err := ss.Build(mod, sv)
+	if err != nil {
+		return nil, fmt.Errorf("scheme %s: %w", ss.Name, err)
+	}
+	return &Built{Map: m, Model: mod, ModelSpec: ms, SchemeSpec: ss, ModelValues: mv, SchemeValues: sv}, nil
+}
+
+func hasParam(ps []Param, n string) bool {
+	for _, p := range ps {
+		if p.Name == n {
+			return true
+		}
+	}
+	return false
+}
+
+func acceptedParams(ms ModelSpec, ss SchemeSpec) string {
+	var out []string
+	for _, p := range append(append([]Param{}, ms.Params...), ss.Params...) {
+		out = append(out, p.Name+" ("+p.Range()+")")
+	}
+	if len(out) == 0 {
+		return "none"
+	}
+	return strings.Join(out, ", ")
+}

@@ -67,50 +67,14 @@ func build(o Options) (*source, error) {
 			sort.Slice(s.specs, func(i, j int) bool { return s.specs[i].Name < s.specs[j].Name })
 		}
 	} else {
-		ms, err := decimation.LookupModel(o.Model)
+		bt, err := decimation.Build(o.Model, o.Scheme, o.Set)
 		if err != nil {
 			return nil, err
 		}
-		ss, err := decimation.LookupScheme(o.Scheme)
-		if err != nil {
-			return nil, err
-		}
-		mset, sset := map[string]string{}, map[string]string{}
-		for k, v := range o.Set {
-			switch {
-			case hasParam(ms.Params, k):
-				mset[k] = v
-			case hasParam(ss.Params, k):
-				sset[k] = v
-			default:
-				return nil, fmt.Errorf("no parameter %q for model %s with scheme %s", k, ms.Name, ss.Name)
-			}
-		}
-		mv, err := decimation.Resolve(ms.Params, mset)
-		if err != nil {
-			return nil, err
-		}
-		sv, err := decimation.Resolve(ss.Params, sset)
-		if err != nil {
-			return nil, err
-		}
-		model, err := ms.New(mv)
-		if err != nil {
-			return nil, err
-		}
-		m, err := ss.Build(model, sv)
-		if err != nil {
-			return nil, err
-		}
-		s.m, s.model, s.scheme = m, ms.Name, ss.Name
+		ms, ss := bt.ModelSpec, bt.SchemeSpec
+		s.m, s.model, s.scheme = bt.Map, ms.Name, ss.Name
 		s.engine = true
-		s.params = map[string]any{}
-		for k, v := range mv {
-			s.params[k] = v
-		}
-		for k, v := range sv {
-			s.params[k] = v
-		}
+		s.params = bt.Params()
 		s.title = ms.Name + " with " + ss.Name
 		s.specs = append(append(s.specs, ms.Params...), ss.Params...)
 	}

@@ -199,30 +199,18 @@ func (o *options) build() (*built, error) {
 			return nil, usagef("--set %s: no parameter %q for model %s with scheme %s; accepted: %s", kv, name, ms.Name, ss.Name, acceptedParams(ms, ss))
 		}
 	}
-	mv, err := decimation.Resolve(ms.Params, mset)
+	set := map[string]string{}
+	for k, v := range mset {
+		set[k] = v
+	}
+	for k, v := range sset {
+		set[k] = v
+	}
+	bt, err := decimation.Build(ms.Name, ss.Name, set)
 	if err != nil {
-		return nil, usagef("model %s: %v", ms.Name, err)
+		return nil, usagef("%v", err)
 	}
-	sv, err := decimation.Resolve(ss.Params, sset)
-	if err != nil {
-		return nil, usagef("scheme %s: %v", ss.Name, err)
-	}
-	model, err := ms.New(mv)
-	if err != nil {
-		return nil, usagef("model %s: %v", ms.Name, err)
-	}
-	m, err := ss.Build(model, sv)
-	if err != nil {
-		return nil, usagef("scheme %s: %v", ss.Name, err)
-	}
-	params := map[string]any{}
-	for k, v := range mv {
-		params[k] = v
-	}
-	for k, v := range sv {
-		params[k] = v
-	}
-	return &built{m: m, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: params, Cautions: cautions(m)}, model: model}, nil
+	return &built{m: bt.Map, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: bt.Params(), Cautions: cautions(bt.Map)}, model: bt.Model}, nil
 }
 
 func hasParam(ps []decimation.Param, n string) bool {
