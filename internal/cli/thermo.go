@@ -2,9 +2,7 @@ package cli
 
 import (
 	"context"
-	"fmt"
 	"io"
-	"math"
 	"runtime"
 	"strings"
 	"sync"
@@ -218,7 +216,7 @@ func thermoPoints(ctx context.Context, m flow.Map, pts [][]float64, metric []int
 		go func() {
 			defer wg.Done()
 			for k := range work {
-				out[k] = thermoPoint(m, pts[k], metric)
+				out[k] = flow.Thermo(m, pts[k], metric)
 			}
 		}()
 	}
@@ -231,159 +229,4 @@ func thermoPoints(ctx context.Context, m flow.Map, pts [][]float64, metric []int
 	close(work)
 	wg.Wait()
 	return out
-}
-
-// thermoPoint computes the quantities at one point.
-func thermoPoint(m flow.Map, x []float64, metric []int) (p report.ThermoPoint) {
-	nan := math.NaN()
-	p = report.ThermoPoint{X: x, F: nan, U: nan, C: nan, M: nan, Chi: nan, M0: nan, Xi: nan, Det: nan, R: nan}
-	defer func() {
-		if r := recover(); r != nil {
-			p.Flags = append(p.Flags, fmt.Sprintf("internal error: %v", r))
-		}
-	}()
-	cs := m.Couplings()
-	perSite := 1.0
-	if pb, ok := m.(flow.PerBonder); ok && pb.PerBond() {
-		perSite = 1 / pb.SitesPerBond()
-	}
-	ok := func(d flow.Derivatives) bool { return d.Err <= 1e-5*(1+maxAbsMatrix(d.Hess)) }
-	flag := func(what string, d flow.Derivatives) {
-		p.Flags = append(p.Flags, fmt.Sprintf("%s: derivatives unreliable (error estimate %.2g): on a phase boundary, or where the scheme makes a response diverge (bond moving: the field at the disordered sink)", what, d.Err))
-	}
-	// The energy and specific heat: derivatives over the couplings that
-	// are not zero (the ray on which they all scale as 1/T).
-	var ray []int
-	for i := range cs {
-		if x[i] != 0 {
-			ray = append(ray, i)
-		}
-	}
-	if len(ray) == 0 {
-		ray = []int{0}
-	}
-	d := flow.FreeEnergyDerivatives(m, x, ray, 2)
-	if d.Flag != "" {
-		p.Flags = append(p.Flags, d.Flag)
-		return p
-	}
-	p.F = d.F * perSite
-	e := exchangeIndex(m)
-	var xg, xx float64
-	for a, i := range ray {
-		xg += x[i] * d.Grad[a]
-		for c, j := range ray {
-			xx += x[i] * x[j] * d.Hess[a][c]
-		}
-	}
-	if e >= 0 && x[e] != 0 {
-		p.U = -xg / x[e] * perSite
-	}
-	if ok(d) {
-		p.C = xx * perSite
-	} else {
-		flag("specific heat", d)
-	}
-	if xi, ok := flow.CorrelationLength(m, x); ok {
-		p.Xi = xi
-		if m.Dimension() != 1 {
-			p.Flags = append(p.Flags, "correlation length known up to a factor of order one (exact only in one dimension)")
-		}
-	} else {
-		p.Flags = append(p.Flags, "correlation length: the flow does not reach the disordered sink here (ordered phase, or no estimate for this engine)")
-	}
-	for i, c := range cs {
-		if c.Role == flow.Field {
-			if ord, steps := flow.Ordered(m, x, e); e >= 0 && ord {
-				m0, limited := flow.SpontaneousMagnetization(m, x, i, steps)
-				p.M0 = m0 * perSite
-				if limited {
-					p.Flags = append(p.Flags, "spontaneous magnetization: close to T_c the limit h -> 0+ is limited by rounding")
-				}
-			} else if e >= 0 {
-				p.M0 = 0
-			}
-			dh := flow.FreeEnergyDerivatives(m, x, []int{i}, 2)
-			p.M = dh.Grad[0] * perSite
-			if ok(dh) {
-				p.Chi = dh.Hess[0][0] * perSite
-			} else {
-				p.M = math.NaN()
-				flag("magnetization and susceptibility", dh)
-			}
-			break
-		}
-	}
-	dm := flow.FreeEnergyDerivatives(m, x, metric, 3)
-	minDiag := math.Inf(1)
-	for a := range metric {
-		minDiag = math.Min(minDiag, math.Abs(dm.Hess[a][a]))
-	}
-	if !ok(dm) || dm.Err > 1e-4*minDiag {
-		flag("metric", dm)
-		return p
-	}
-	k := len(metric)
-	p.Metric = make([][]float64, k)
-	for a := range p.Metric {
-		p.Metric[a] = make([]float64, k)
-		for b := range p.Metric[a] {
-			p.Metric[a][b] = dm.Hess[a][b] * perSite
-		}
-	}
-	p.Det = det(p.Metric)
-	if k >= 2 {
-		diag := 1.0
-		for a := 0; a < k; a++ {
-			diag *= math.Abs(p.Metric[a][a])
-		}
-		if math.Abs(p.Det) < 1e-9*diag || diag == 0 {
-			p.Flags = append(p.Flags, "curvature: the metric is nearly singular here (a frozen or decoupled direction), so R is not given")
-			return p
-		}
-		if dm.Err3 > 1e-4*(maxAbs3(dm.Third)+1e-300) {
-			p.Flags = append(p.Flags, fmt.Sprintf("curvature: third derivatives unreliable (error estimate %.2g)", dm.Err3))
-			return p
-		}
-		third := dm.Third
-		for a := range third {
-			for b := range third[a] {
-				for c := range third[a][b] {
-					third[a][b][c] *= perSite
-				}
-			}
-		}
-		p.R = flow.HessianCurvature(p.Metric, third)
-	}
-	return p
-}
-
-func maxAbsMatrix(a [][]float64) float64 {
-	var m float64
-	for _, r := range a {
-		for _, v := range r {
-			m = math.Max(m, math.Abs(v))
-		}
-	}
-	return m
-}
-
-func det(a [][]float64) float64 {
-	switch len(a) {
-	case 1:
-		return a[0][0]
-	case 2:
-		return a[0][0]*a[1][1] - a[0][1]*a[1][0]
-	case 3:
-		return a[0][0]*(a[1][1]*a[2][2]-a[1][2]*a[2][1]) - a[0][1]*(a[1][0]*a[2][2]-a[1][2]*a[2][0]) + a[0][2]*(a[1][0]*a[2][1]-a[1][1]*a[2][0])
-	}
-	return math.NaN()
-}
-
-func maxAbs3(t [][][]float64) float64 {
-	var m float64
-	for _, a := range t {
-		m = math.Max(m, maxAbsMatrix(a))
-	}
-	return m
 }

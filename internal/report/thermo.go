@@ -10,14 +10,7 @@ import (
 )
 
 // ThermoPoint is the thermodynamics at one point; NaN where not available.
-type ThermoPoint struct {
-	X               []float64
-	F, U, C, M, Chi float64
-	M0, Xi          float64
-	Metric          [][]float64
-	Det, R          float64
-	Flags           []string
-}
+type ThermoPoint = flow.ThermoValues
 
 // ThermoDoc is everything `thermo` reports.
 type ThermoDoc struct {
