@@ -16,6 +16,7 @@ type keyMap struct {
 	Scenarios, Params        key.Binding
 	Export, Help, Quit, Back key.Binding
 	Cancel                   key.Binding
+	Thermo, Quantity         key.Binding
 }
 
 func defaultKeyMap() keyMap {
@@ -51,6 +52,8 @@ func defaultKeyMap() keyMap {
 		Quit:      b([]string{"q", "ctrl+c"}, "q", "quit"),
 		Back:      b([]string{"esc"}, "esc", "back"),
 		Cancel:    b([]string{"ctrl+x"}, "ctrl+x", "cancel the running computation"),
+		Thermo:    b([]string{"T"}, "T", "thermodynamics along the line through the cursor (on/off)"),
+		Quantity:  b([]string{"Q"}, "Q", "next thermodynamic quantity"),
 	}
 }
 
@@ -64,6 +67,6 @@ func (k keyMap) FullHelp() [][]key.Binding {
 	return [][]key.Binding{
 		{k.Left, k.Right, k.Up, k.Down, k.PanLeft, k.PanRight, k.PanUp, k.PanDown, k.ZoomIn, k.ZoomOut},
 		{k.Step, k.Run, k.Clear, k.Fan, k.NextFixed, k.Table, k.CrossX, k.CrossY},
-		{k.Squeeze, k.Lines, k.Boundary, k.Scenarios, k.Params, k.Export, k.Cancel, k.Help, k.Back, k.Quit},
+		{k.Squeeze, k.Lines, k.Boundary, k.Thermo, k.Quantity, k.Scenarios, k.Params, k.Export, k.Cancel, k.Help, k.Back, k.Quit},
 	}
 }

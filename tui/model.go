@@ -68,6 +68,10 @@ type Model struct {
 	fields  []decimation.Param
 	focus   int
 	export  textinput.Model
+	// the thermodynamics view
+	thermoOn bool
+	thermo   thermoMsg
+	quantity int
 }
 
 // New returns the explorer on the study the options name.
@@ -200,6 +204,15 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		}
 		m.render()
 		return m, nil
+	case thermoMsg:
+		if msg.id != m.runID {
+			return m, nil
+		}
+		m.busy = ""
+		m.thermo = msg
+		m.status = "thermodynamics along " + m.ax.Name + " through the cursor; Q changes the quantity, T returns"
+		m.render()
+		return m, nil
 	case fanMsg:
 		if msg.id != m.runID {
 			return m, nil
@@ -324,6 +337,15 @@ func (m Model) key(msg tea.KeyMsg) (tea.Model, tea.Cmd) {
 		m.show.boundary = !m.show.boundary
 	case key.Matches(msg, k.CrossX), key.Matches(msg, k.CrossY):
 		return m, m.crossing(key.Matches(msg, k.CrossX))
+	case key.Matches(msg, k.Thermo):
+		m.thermoOn = !m.thermoOn
+		if m.thermoOn {
+			ctx, id := m.start("computing thermodynamics along the line through the cursor")
+			m.render()
+			return m, thermoCmd(ctx, id, m.slice, m.ax, m.cursor[1], 120)
+		}
+	case key.Matches(msg, k.Quantity):
+		m.quantity = (m.quantity + 1) % len(quantities)
 	case key.Matches(msg, k.Cancel):
 		if m.cancel != nil {
 			m.cancel()
@@ -433,6 +455,10 @@ func (m *Model) crossing(horizontal bool) tea.Cmd {
 // render rebuilds the plot frame from the data; View only reads it.
 func (m *Model) render() {
 	pw, ph := m.plotSize()
+	if m.thermoOn {
+		m.frame = m.thermoPlot().Render(pw, ph)
+		return
+	}
 	p := Plot{AX: m.ax, AY: m.ay}
 	if m.show.lines {
 		p.Lines = append(append(p.Lines, m.lines...), m.fan...)
@@ -491,6 +517,10 @@ func (m Model) View() string {
 	side := m.sideView()
 	body := lipgloss.JoinHorizontal(lipgloss.Top, plot.String(), st.Panel.Width(sideWidth-1).Render(side))
 	axes := st.Dim.Render(trunc(fmt.Sprintf("x: %s   y: %s   %s", m.ax.Label(), m.ay.Label(), Legend), max(10, m.width)))
+	if m.thermoOn {
+		axes = st.Dim.Render(trunc(fmt.Sprintf("thermodynamics: %s against %s at %s = %s (Q next quantity, T back to the flow)",
+			quantities[m.quantity].name, m.ax.Name, m.ay.Name, report.Text(m.cursor[1], 4)), max(10, m.width)))
+	}
 	return lipgloss.JoinVertical(lipgloss.Left, title, body, axes, m.statusLine())
 }
 

@@ -339,3 +339,34 @@ func BenchmarkFirstFrame(b *testing.B) {
 		_ = mm.View()
 	}
 }
+
+// The thermodynamics view draws the engine's values: ln Z/N along the
+// line through the cursor equals flow.FreeEnergy at those points, and at
+// zero couplings it is ln 2 (Z = 2^N).
+func TestThermoView(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 100, 30)
+	m.cursor = [2]float64{0.5, 0}
+	ctx, id := m.start("test")
+	msg := thermoCmd(ctx, id, m.slice, m.ax, 0, 20)().(thermoMsg)
+	mm, _ := m.Update(msg)
+	m = mm.(Model)
+	m.thermoOn = true
+	m.render()
+	for i, v := range m.thermo.values {
+		want := flow.FreeEnergy(m.slice.M, m.slice.Point(m.thermo.xs[i], 0)).Value
+		if math.Abs(v.F-want) > 1e-12 {
+			t.Errorf("x = %g: ln Z/N %g, want %g", m.thermo.xs[i], v.F, want)
+		}
+	}
+	z := flow.Thermo(m.slice.M, []float64{0, 0}, []int{0, 1})
+	if math.Abs(z.F-math.Ln2) > 1e-12 {
+		t.Errorf("ln Z/N at zero couplings = %g, want ln 2", z.F)
+	}
+	if v := ansi.Strip(m.View()); !strings.Contains(v, "thermodynamics: ln Z/N") {
+		t.Errorf("the view does not name the quantity:\n%s", v)
+	}
+	m = press(m, "Q")
+	if m.quantity != 1 {
+		t.Error("Q did not change the quantity")
+	}
+}
