@@ -144,6 +144,9 @@ func Load(arg string) (*Scenario, error) {
 	if fi.IsDir() {
 		return nil, &Error{File: arg, Msg: "is a directory, not a scenario file"}
 	}
+	if !fi.Mode().IsRegular() {
+		return nil, &Error{File: arg, Msg: "is not a regular file (a device or a pipe); give a scenario file"}
+	}
 	if fi.Size() > MaxFileSize {
 		return nil, &Error{File: arg, Msg: fmt.Sprintf("is %d bytes; a scenario file may have at most %d", fi.Size(), MaxFileSize)}
 	}
@@ -193,13 +196,23 @@ func tomlError(name string, data []byte, err error) error {
 		msg := de.Error()
 		if strings.Contains(msg, "cannot decode") {
 			want := "another type"
+			target := msg
+			if i := strings.LastIndex(msg, "of type "); i >= 0 {
+				target = msg[i+len("of type "):]
+			} else if i := strings.LastIndex(msg, " into "); i >= 0 {
+				target = msg[i+len(" into "):]
+			}
 			switch {
-			case strings.Contains(msg, "float64") || strings.Contains(msg, "int"):
+			case strings.HasPrefix(target, "float") || strings.HasPrefix(target, "int"):
 				want = "a number"
-			case strings.Contains(msg, "string"):
+			case strings.HasPrefix(target, "string"):
 				want = "a quoted string"
-			case strings.Contains(msg, "bool"):
+			case strings.HasPrefix(target, "bool"):
 				want = "true or false"
+			case strings.HasPrefix(target, "[]"):
+				want = "a list [ ... ]"
+			case strings.Contains(target, "map") || strings.Contains(target, "struct"):
+				want = "a table"
 			}
 			given := "a value"
 			if i := strings.Index(msg, "cannot decode "); i >= 0 {
@@ -271,7 +284,23 @@ func (s *Scenario) validate() error {
 	}
 	if m := f.Material; m != nil {
 		if _, err := MaterialFrom(m); err != nil {
-			return s.errAt("material", -1, "exchange", "%v", err)
+			key := "exchange"
+			switch {
+			case strings.HasPrefix(err.Error(), "unit"):
+				key = "unit"
+			case strings.HasPrefix(err.Error(), "convention"):
+				key = "convention"
+			}
+			return s.errAt("material", -1, key, "%v", err)
+		}
+		if conv := m.Convention; conv != "" && conv != "ising" {
+			model := ""
+			if f.Model != nil {
+				model, _ = (*f.Model)["name"].(string)
+			}
+			if model != "ising" {
+				return s.errAt("material", -1, "convention", "convention %q applies to Ising spins (s = +-1) only; for this study use convention = \"ising\" (J multiplies the model's own exchange term)", conv)
+			}
 		}
 	}
 	return nil
@@ -425,11 +454,21 @@ func (s *Scenario) userMap(set map[string]string) (*UserMap, error) {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return nil, s.errAt("recursion.parameters", -1, k, "parameter %s must be a finite number", k)
 		}
+		if reservedName(k) {
+			return nil, s.errAt("recursion.parameters", -1, k, "parameter name %q is taken (pi, u and the function names are reserved)", k)
+		}
+		if !validName(k) {
+			return nil, s.errAt("recursion.parameters", -1, k, "parameter name %q: use letters, digits and _ (starting with a letter)", k)
+		}
 		params[k] = v
 	}
 	for k, v := range set {
 		if _, ok := params[k]; !ok {
-			return nil, &Error{File: s.Source, Msg: fmt.Sprintf("--set %s: the file has no parameter %q; its parameters: %s", k, k, strings.Join(keys(params), ", "))}
+			list := strings.Join(keys(params), ", ")
+			if list == "" {
+				list = "none"
+			}
+			return nil, &Error{File: s.Source, Msg: fmt.Sprintf("--set %s: the file has no parameter %q; its parameters: %s", k, k, list)}
 		}
 		x, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
 		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
@@ -446,8 +485,8 @@ func (s *Scenario) userMap(set map[string]string) (*UserMap, error) {
 		if !validName(c.Name) {
 			return nil, s.errAt("recursion.coupling", i, "name", "coupling name %q: use letters, digits and _ (starting with a letter)", c.Name)
 		}
-		if seen[c.Name] {
-			return nil, s.errAt("recursion.coupling", i, "name", "coupling name %q is used twice (or names a parameter, pi or u)", c.Name)
+		if seen[c.Name] || reservedName(c.Name) {
+			return nil, s.errAt("recursion.coupling", i, "name", "coupling name %q is used twice, or names a parameter, pi, u or a function", c.Name)
 		}
 		seen[c.Name] = true
 		names = append(names, c.Name)
@@ -543,6 +582,16 @@ func (s *Scenario) userMap(set map[string]string) (*UserMap, error) {
 		}
 	}
 	return m, nil
+}
+
+// reservedName reports whether n is pi, u or a function name.
+func reservedName(n string) bool {
+	if n == "pi" || n == "u" {
+		return true
+	}
+	_, f1 := functions1[n]
+	_, f2 := functions2[n]
+	return f1 || f2
 }
 
 func validName(n string) bool {

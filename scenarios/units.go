@@ -62,8 +62,8 @@ func MaterialFrom(m *MaterialFile) (*Material, error) {
 	if !ok {
 		return nil, fmt.Errorf("convention %q; accepted: %s", conv, strings.Join(ConventionNames(), ", "))
 	}
-	if math.IsNaN(m.Exchange) || math.IsInf(m.Exchange, 0) || m.Exchange == 0 {
-		return nil, fmt.Errorf("exchange = %g: give the material's exchange energy, a finite non-zero number", m.Exchange)
+	if math.IsNaN(m.Exchange) || math.IsInf(m.Exchange, 0) || m.Exchange <= 0 {
+		return nil, fmt.Errorf("exchange = %g: give the size of the material's exchange energy, a finite number > 0 (for an antiferromagnet, its magnitude; the sign belongs to the model's couplings)", m.Exchange)
 	}
 	var jK float64
 	switch m.Unit {

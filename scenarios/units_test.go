@@ -46,7 +46,6 @@ func TestMaterialConversions(t *testing.T) {
 		{scenarios.MaterialFile{Exchange: 10, Unit: "meV"}, 116.045}, // default ising
 		{scenarios.MaterialFile{Exchange: 12, Unit: "K", Convention: "spin-half"}, 3},
 		{scenarios.MaterialFile{Exchange: 12, Unit: "K", Convention: "minus-two-j"}, 6},
-		{scenarios.MaterialFile{Exchange: -10, Unit: "meV", Convention: "spin-half"}, -29.0113}, // antiferromagnet
 	} {
 		m, err := scenarios.MaterialFrom(&tc.m)
 		if err != nil {
@@ -91,8 +90,11 @@ func TestMaterialErrors(t *testing.T) {
 		{scenarios.MaterialFile{Exchange: 1, Unit: ""}, []string{"unit", "meV, K"}},
 		{scenarios.MaterialFile{Exchange: 1, Unit: "mev"}, []string{`"mev"`, "meV, K"}},
 		{scenarios.MaterialFile{Exchange: 1, Unit: "meV", Convention: "heisenberg"}, []string{`"heisenberg"`, "ising", "spin-half", "minus-two-j"}},
-		{scenarios.MaterialFile{Exchange: 0, Unit: "meV"}, []string{"exchange = 0", "non-zero"}},
+		{scenarios.MaterialFile{Exchange: 0, Unit: "meV"}, []string{"exchange = 0", "> 0"}},
 		{scenarios.MaterialFile{Exchange: math.NaN(), Unit: "meV"}, []string{"exchange", "finite"}},
+		// A negative exchange would print a negative temperature: its
+		// sign belongs to the model's couplings, the material gives |J|.
+		{scenarios.MaterialFile{Exchange: -10, Unit: "meV"}, []string{"exchange", "> 0"}},
 		{scenarios.MaterialFile{Exchange: math.Inf(1), Unit: "K"}, []string{"exchange", "finite"}},
 	} {
 		m, err := scenarios.MaterialFrom(&tc.m)

@@ -26,6 +26,15 @@ type CriticalDoc struct {
 	Material    *MaterialInfo
 }
 
+// MaterialJSON names the material behind a temperature in kelvin.
+type MaterialJSON struct {
+	Name                string `json:"name"`
+	Exchange            Num    `json:"exchange"`
+	Unit                string `json:"unit"`
+	Convention          string `json:"convention"`
+	ModelExchangeKelvin Num    `json:"model_exchange_kelvin"`
+}
+
 // MaterialInfo is a material's exchange energy for transition temperatures
 // in kelvin.
 type MaterialInfo struct {
@@ -44,6 +53,9 @@ type MaterialInfo struct {
 func (d CriticalDoc) kelvin(c flow.Crossing) (float64, string) {
 	if d.Material == nil {
 		return math.NaN(), "no [material] in the scenario"
+	}
+	if c.Kind != flow.Continuous && c.Kind != flow.FirstOrder {
+		return math.NaN(), "not a transition of identified kind, so no temperature is given"
 	}
 	if d.Temperature {
 		return c.Value * d.Material.JModelK, ""
@@ -113,6 +125,7 @@ type TransitionJSON struct {
 	Digits      int               `json:"significant_digits"`
 	Refined     bool              `json:"refined_by_scaling_field"`
 	TcKelvin    *Num              `json:"T_c_kelvin,omitempty"`
+	Material    *MaterialJSON     `json:"material,omitempty"`
 	KelvinNote  string            `json:"kelvin_note,omitempty"`
 	Caution     string            `json:"caution,omitempty"`
 }
@@ -205,6 +218,8 @@ func (d CriticalDoc) transition(c flow.Crossing) TransitionJSON {
 			v := Num(tk)
 			t.TcKelvin = &v
 			t.Caution = d.Material.Caution
+			t.Material = &MaterialJSON{Name: d.Material.Name, Exchange: Num(d.Material.Exchange), Unit: d.Material.Unit,
+				Convention: d.Material.Convention, ModelExchangeKelvin: Num(d.Material.JModelK)}
 		} else {
 			t.KelvinNote = why
 		}
