@@ -121,6 +121,7 @@ func (m *Model) setSource(src *source) {
 	if xi == yi {
 		ay = Axis{Name: cs[xi].Name + " (again: the map has one coupling)", Lo: ax.Lo, Hi: ax.Hi}
 	}
+	m.show.boundary = xi != yi
 	m.slice = flow.Slice{M: src.m, X: xi, Y: yi, Base: base}
 	m.ax, m.ay = ax, ay
 	m.cursor = [2]float64{(ax.Lo + ax.Hi) / 2, (ay.Lo + ay.Hi) / 2}
@@ -231,6 +232,17 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		}
 		return m, nil
 	case tea.KeyMsg:
+		if msg.Type == tea.KeyRunes && len(msg.Runes) > 1 && !msg.Paste && m.mode == modeMain {
+			// Keys typed fast arrive together: take them one by one.
+			var cmds []tea.Cmd
+			var cur tea.Model = m
+			for _, r := range msg.Runes {
+				var cmd tea.Cmd
+				cur, cmd = cur.(Model).key(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune{r}})
+				cmds = append(cmds, cmd)
+			}
+			return cur, tea.Batch(cmds...)
+		}
 		return m.key(msg)
 	}
 	return m, nil
@@ -252,8 +264,7 @@ func (m Model) key(msg tea.KeyMsg) (tea.Model, tea.Cmd) {
 	case modeExport:
 		return m.keyExport(msg)
 	}
-	dx := (m.ax.Hi - m.ax.Lo) / 40
-	dy := (m.ay.Hi - m.ay.Lo) / 20
+	m.err = "" // an error stays until the next action
 	move := func(fx, fy float64) {
 		x := m.ax.Value(m.ax.Frac(m.cursor[0]) + fx)
 		y := m.ay.Value(m.ay.Frac(m.cursor[1]) + fy)
@@ -262,8 +273,6 @@ func (m Model) key(msg tea.KeyMsg) (tea.Model, tea.Cmd) {
 			m.trail = nil
 		}
 	}
-	_ = dx
-	_ = dy
 	switch {
 	case key.Matches(msg, k.Quit):
 		if m.cancel != nil {
@@ -494,10 +503,12 @@ func (m *Model) render() {
 	m.frame = p.Render(pw, ph)
 }
 
-const sideWidth = 32
+// sideWidth is the width of the panel right of the plot: a third of the
+// terminal, at least 32 and at most 64 columns.
+func (m Model) sideWidth() int { return min(64, max(32, m.width/3)) }
 
 func (m Model) plotSize() (int, int) {
-	return max(20, m.width-sideWidth), max(6, m.height-4)
+	return max(20, m.width-m.sideWidth()), max(6, m.height-5)
 }
 
 // View draws the screen from the model.
@@ -515,11 +526,12 @@ func (m Model) View() string {
 		plot.WriteString(m.styleRow(row, m.frame.Styles[i]))
 	}
 	side := m.sideView()
-	body := lipgloss.JoinHorizontal(lipgloss.Top, plot.String(), st.Panel.Width(sideWidth-1).Render(side))
-	axes := st.Dim.Render(trunc(fmt.Sprintf("x: %s   y: %s   %s", m.ax.Label(), m.ay.Label(), Legend), max(10, m.width)))
+	body := lipgloss.JoinHorizontal(lipgloss.Top, plot.String(), st.Panel.Width(m.sideWidth()-1).Render(side))
+	axes := st.Dim.Render(trunc(fmt.Sprintf("x: %s   y: %s", m.ax.Label(), m.ay.Label()), max(10, m.width))) + "\n" +
+		st.Dim.Render(trunc(Legend, max(10, m.width)))
 	if m.thermoOn {
 		axes = st.Dim.Render(trunc(fmt.Sprintf("thermodynamics: %s against %s at %s = %s (Q next quantity, T back to the flow)",
-			quantities[m.quantity].name, m.ax.Name, m.ay.Name, report.Text(m.cursor[1], 4)), max(10, m.width)))
+			quantities[m.quantity].name, m.ax.Name, m.ay.Name, report.Text(m.cursor[1], 4)), max(10, m.width))) + "\n"
 	}
 	return lipgloss.JoinVertical(lipgloss.Left, title, body, axes, m.statusLine())
 }
@@ -571,13 +583,28 @@ func (m Model) statusLine() string {
 }
 
 func (m Model) helpView() string {
-	var b strings.Builder
+	var cols []string
 	for _, col := range m.keys.FullHelp() {
+		var b strings.Builder
 		for _, kb := range col {
 			h := kb.Help()
-			fmt.Fprintf(&b, "  %-10s %s\n", h.Key, h.Desc)
+			fmt.Fprintf(&b, "%-8s %s\n", h.Key, h.Desc)
 		}
+		cols = append(cols, b.String())
 	}
-	b.WriteString("\n" + Legend + "\n\nany key returns")
-	return b.String()
+	w := max(20, m.width/len(cols)-1)
+	for i := range cols {
+		var lines []string
+		for _, l := range strings.Split(strings.TrimRight(cols[i], "\n"), "\n") {
+			lines = append(lines, ansi.Truncate(l, w, "…"))
+		}
+		cols[i] = lipgloss.NewStyle().Width(w + 1).Render(strings.Join(lines, "\n"))
+	}
+	var body string
+	if m.width >= 3*22 {
+		body = lipgloss.JoinHorizontal(lipgloss.Top, cols...)
+	} else {
+		body = lipgloss.JoinVertical(lipgloss.Left, cols...)
+	}
+	return body + "\n" + trunc(Legend, max(10, m.width)) + "\nany key returns"
 }

@@ -2,6 +2,7 @@ package tui
 
 import (
 	"encoding/csv"
+	"errors"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -25,7 +26,7 @@ import (
 func (m Model) sideView() string {
 	st := m.styles
 	var b strings.Builder
-	w := sideWidth - 2
+	w := m.sideWidth() - 2
 	line := func(s string) { b.WriteString(ansi.Truncate(s, w, "") + "\n") }
 	switch m.mode {
 	case modeScenarios:
@@ -396,11 +397,25 @@ func (m Model) writeExport(name string) error {
 	dir := filepath.Dir(name)
 	tmp, err := os.CreateTemp(dir, ".scalewalk-export-*")
 	if err != nil {
-		return fmt.Errorf("export: %v", err)
+		var pe *os.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return fmt.Errorf("export %s: cannot write in %s: %v", name, dir, err)
 	}
 	defer os.Remove(tmp.Name())
 	cs := m.slice.M.Couplings()
-	lines := append(append([][][2]float64{}, m.lines...), m.fan...)
+	// What is on screen: flow lines when shown, fixed points on the slice.
+	var lines [][][2]float64
+	if m.show.lines {
+		lines = append(append(lines, m.lines...), m.fan...)
+	}
+	var shown []flow.FixedPoint
+	for _, p := range m.points {
+		if m.slice.OnSlice(p, 1e-6) {
+			shown = append(shown, p)
+		}
+	}
 	if ext == ".json" {
 		d := exportDoc{Study: m.src.title, X: cs[m.slice.X].Name, Y: cs[m.slice.Y].Name, Held: map[string]report.Num{}, FixedPoints: []report.FixedPointJSON{}}
 		for i, c := range cs {
@@ -415,7 +430,7 @@ func (m Model) writeExport(name string) error {
 			}
 			d.Lines = append(d.Lines, pl)
 		}
-		for _, p := range m.points {
+		for _, p := range shown {
 			d.FixedPoints = append(d.FixedPoints, report.FixedPoint(m.slice.M, p))
 		}
 		enc := json.NewEncoder(tmp)
@@ -432,7 +447,7 @@ func (m Model) writeExport(name string) error {
 				w.Write([]string{"flow", fmt.Sprint(li), fmt.Sprint(k), report.CSV(p[0]), report.CSV(p[1]), ""})
 			}
 		}
-		for _, p := range m.points {
+		for _, p := range shown {
 			w.Write([]string{"fixed", "", "", report.CSV(p.X[m.slice.X]), report.CSV(p.X[m.slice.Y]), p.Kind.String()})
 		}
 		w.Flush()
@@ -442,6 +457,9 @@ func (m Model) writeExport(name string) error {
 		}
 	}
 	if err := tmp.Close(); err != nil {
+		return fmt.Errorf("export: %v", err)
+	}
+	if err := os.Chmod(tmp.Name(), 0o644); err != nil {
 		return fmt.Errorf("export: %v", err)
 	}
 	if err := os.Rename(tmp.Name(), name); err != nil {

@@ -49,7 +49,7 @@ func kindRune(p flow.FixedPoint) rune {
 }
 
 // Legend explains the symbols.
-const Legend = "o sink  X critical  * multicritical  # discontinuity  + source  : phase boundary  @ cursor  0-9 steps"
+const Legend = "o sink X critical * multicritical # discontinuity + source : boundary @ cursor 0-9 steps"
 
 // Frame is a rendered plot: the rows of the drawing area with axes, and
 // the cell geometry to map a click back to couplings.
@@ -152,7 +152,7 @@ func (p Plot) Render(w, h int) Frame {
 			axis[col] = '┬'
 		}
 		t := []rune(tickText(axisTick(p.AX, v)))
-		start := col - len(t)/2
+		start := min(col-len(t)/2, len(labels)-len(t))
 		for i, r := range t {
 			if start+i >= 0 && start+i < len(labels) {
 				labels[start+i] = r

@@ -370,3 +370,27 @@ func TestThermoView(t *testing.T) {
 		t.Error("Q did not change the quantity")
 	}
 }
+
+// Keys typed fast arrive as one message with several runes: each acts.
+func TestKeysTogether(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 80, 24)
+	mm, _ := m.Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("nnn")})
+	if got := len(mm.(Model).trail); got != 4 {
+		t.Errorf("after nnn: %d rows, want 4", got)
+	}
+}
+
+// A failed export names the user's path, and the error clears on the next
+// action.
+func TestExportErrorClears(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 80, 24)
+	err := m.writeExport("/nonexistent-dir-scalewalk/x.csv")
+	if err == nil || !strings.Contains(err.Error(), "/nonexistent-dir-scalewalk/x.csv") || strings.Contains(err.Error(), ".scalewalk-export") {
+		t.Errorf("export error %v", err)
+	}
+	m.err = err.Error()
+	m = press(m, "n")
+	if m.err != "" {
+		t.Error("the error stayed after the next action")
+	}
+}
