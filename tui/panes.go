@@ -2,8 +2,8 @@ package tui
 
 import (
 	"encoding/csv"
-	"errors"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
