@@ -583,28 +583,24 @@ func (m Model) statusLine() string {
 }
 
 func (m Model) helpView() string {
-	var cols []string
+	var all []key.Binding
 	for _, col := range m.keys.FullHelp() {
-		var b strings.Builder
-		for _, kb := range col {
-			h := kb.Help()
-			fmt.Fprintf(&b, "%-8s %s\n", h.Key, h.Desc)
-		}
-		cols = append(cols, b.String())
+		all = append(all, col...)
 	}
-	w := max(20, m.width/len(cols)-1)
-	for i := range cols {
+	ncol := 3
+	if m.width < 120 {
+		ncol = 2
+	}
+	per := (len(all) + ncol - 1) / ncol
+	w := max(20, m.width/ncol-1)
+	var cols []string
+	for c := 0; c < ncol; c++ {
 		var lines []string
-		for _, l := range strings.Split(strings.TrimRight(cols[i], "\n"), "\n") {
-			lines = append(lines, ansi.Truncate(l, w, "…"))
+		for _, kb := range all[c*per : min(len(all), (c+1)*per)] {
+			h := kb.Help()
+			lines = append(lines, ansi.Truncate(fmt.Sprintf("%-8s %s", h.Key, h.Desc), w, "…"))
 		}
-		cols[i] = lipgloss.NewStyle().Width(w + 1).Render(strings.Join(lines, "\n"))
+		cols = append(cols, lipgloss.NewStyle().Width(w+1).Render(strings.Join(lines, "\n")))
 	}
-	var body string
-	if m.width >= 3*22 {
-		body = lipgloss.JoinHorizontal(lipgloss.Top, cols...)
-	} else {
-		body = lipgloss.JoinVertical(lipgloss.Left, cols...)
-	}
-	return body + "\n" + trunc(Legend, max(10, m.width)) + "\nany key returns"
+	return lipgloss.JoinHorizontal(lipgloss.Top, cols...) + "\n" + trunc(Legend, max(10, m.width)) + "\nany key returns"
 }

@@ -394,3 +394,70 @@ func TestExportErrorClears(t *testing.T) {
 		t.Error("the error stayed after the next action")
 	}
 }
+
+// Every view key acts: pan and zoom move the axes (and ask for a
+// recomputation), squeeze switches to tanh axes, v and b hide lines and the
+// boundary, o opens the picker and esc closes it, ? opens the help, ctrl+x
+// cancels, q quits.
+func TestViewKeys(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 80, 24)
+	lo := m.ax.Lo
+	mm, cmd := m.Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("L")})
+	m = mm.(Model)
+	if m.ax.Lo <= lo || cmd == nil {
+		t.Errorf("pan right: Lo %g -> %g, cmd %v", lo, m.ax.Lo, cmd != nil)
+	}
+	w := m.ax.Hi - m.ax.Lo
+	m = press(m, "+")
+	if got := m.ax.Hi - m.ax.Lo; math.Abs(got-w/2) > 1e-12 {
+		t.Errorf("zoom in: width %g, want %g", got, w/2)
+	}
+	m = press(m, "s")
+	if !m.ax.Squeeze || m.ax.Lo < -1 || m.ax.Hi > 1 {
+		t.Errorf("squeeze: %+v", m.ax)
+	}
+	m = press(m, "v", "b")
+	if m.show.lines || m.show.boundary {
+		t.Error("v and b did not hide lines and boundary")
+	}
+	m = press(m, "o")
+	if m.mode != modeScenarios {
+		t.Error("o did not open the scenario picker")
+	}
+	m = press(m, "esc", "?")
+	if m.mode != modeHelp || !strings.Contains(ansi.Strip(m.View()), "any key returns") {
+		t.Error("? did not open the help")
+	}
+	m = press(m, "x")
+	if m.mode != modeMain {
+		t.Error("a key did not close the help")
+	}
+	m.busy = "test"
+	m.cancel = func() {}
+	mm, _ = m.Update(tea.KeyMsg{Type: tea.KeyCtrlX})
+	if mm.(Model).busy != "" || mm.(Model).status != "cancelled" {
+		t.Error("ctrl+x did not cancel")
+	}
+	_, cmd = mm.(Model).Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("q")})
+	if cmd == nil {
+		t.Fatal("q returned no command")
+	}
+	if _, ok := cmd().(tea.QuitMsg); !ok {
+		t.Error("q did not quit")
+	}
+}
+
+// A mouse click moves the cursor to the couplings under it.
+func TestMouseClick(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "monolayer"}, 80, 24)
+	col, row, ok := m.frame.CellOf(0.3, 0.5)
+	if !ok {
+		t.Fatal("point off the canvas")
+	}
+	mm, _ := m.Update(tea.MouseMsg{X: col, Y: row + 1, Action: tea.MouseActionPress, Button: tea.MouseButtonLeft})
+	c := mm.(Model).cursor
+	x, y, _ := m.frame.CellAt(col, row)
+	if c[0] != x || c[1] != y || math.Abs(c[0]-0.3) > 0.05 || math.Abs(c[1]-0.5) > 0.1 {
+		t.Errorf("cursor %v after a click at (0.3, 0.5)", c)
+	}
+}
