@@ -243,6 +243,13 @@ func CompileFormula(src string, symbols []string) (*Formula, error) {
 
 func exprError(src string, err error) error {
 	msg := err.Error()
+	if strings.Contains(msg, "maximum allowed nodes") {
+		short := src
+		if len(short) > 60 {
+			short = short[:60] + "..."
+		}
+		return &FormulaError{Formula: short, Msg: "the formula is too long (more than 2000 terms)"}
+	}
 	first := strings.SplitN(msg, "\n", 2)[0]
 	col := 0
 	// The library appends "(line:column)" to its first line.

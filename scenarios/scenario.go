@@ -94,6 +94,8 @@ type Scenario struct {
 	Source string // the file name, or "built-in NAME"
 	Text   []byte // the file as read
 	File   File
+
+	fromSet map[string]bool // parameters given by --set in the current build
 }
 
 // Error is a problem in a scenario file: where, what, and what is
@@ -235,24 +237,33 @@ func (s *Scenario) locate(table string, index int, key string) int {
 	cur := ""
 	seen := -1
 	keyRe := regexp.MustCompile(`^\s*` + regexp.QuoteMeta(key) + `\s*=`)
+	header := 0
 	for i, l := range lines {
-		t := strings.TrimSpace(l)
+		t := strings.TrimSpace(strings.SplitN(l, "#", 2)[0])
 		if strings.HasPrefix(t, "[[") {
 			cur = strings.TrimSpace(strings.Trim(t, "[]"))
 			if cur == table {
 				seen++
+				if index < 0 || seen == index {
+					header = i + 1
+				}
 			}
 			continue
 		}
 		if strings.HasPrefix(t, "[") {
 			cur = strings.TrimSpace(strings.Trim(t, "[]"))
+			if cur == table {
+				header = i + 1
+			}
 			continue
 		}
 		if cur == table && (index < 0 || seen == index) && keyRe.MatchString(l) {
 			return i + 1
 		}
 	}
-	return 0
+	// The key is absent (or written as a dotted or inline key): point at
+	// the table's header.
+	return header
 }
 
 func (s *Scenario) errAt(table string, index int, key, format string, a ...any) error {
@@ -281,6 +292,9 @@ func (s *Scenario) validate() error {
 		if _, err := s.userMap(nil); err != nil {
 			return err
 		}
+	}
+	if err := s.validateViews(); err != nil {
+		return err
 	}
 	if m := f.Material; m != nil {
 		if _, err := MaterialFrom(m); err != nil {
@@ -377,6 +391,10 @@ func (s *Scenario) engine(set map[string]string) (flow.Map, *Engine, error) {
 	if err != nil {
 		return nil, nil, s.errAt("scheme", -1, "name", "%v", err)
 	}
+	s.fromSet = map[string]bool{}
+	for k := range set {
+		s.fromSet[k] = true
+	}
 	for k, v := range set {
 		switch {
 		case hasParam(ms.Params, k):
@@ -409,6 +427,9 @@ func (s *Scenario) engine(set map[string]string) (flow.Map, *Engine, error) {
 func (s *Scenario) paramErr(table string, err error) error {
 	var pe *decimation.ParamError
 	if errors.As(err, &pe) {
+		if s.fromSet[pe.Name] {
+			return &Error{File: s.Source, Msg: fmt.Sprintf("--set %s=%s: %s", pe.Name, pe.Value, pe.Reason)}
+		}
 		return s.errAt(table, -1, pe.Name, "%v", err)
 	}
 	return &Error{File: s.Source, Msg: err.Error()}
@@ -657,4 +678,57 @@ func (s *Scenario) Build(set map[string]string) (*Built, error) {
 		params[k] = v
 	}
 	return &Built{Map: m, Model: "user (" + s.File.Scenario.Name + ")", Scheme: "recursion", Params: params}, nil
+}
+
+// validateViews checks [slice] and [path] against the map's couplings.
+func (s *Scenario) validateViews() error {
+	b, err := s.Build(nil)
+	if err != nil {
+		return nil // reported by the engine's own check
+	}
+	names := flow.Names(b.Map)
+	known := func(n string) bool { return flow.Index(b.Map, n) >= 0 }
+	if sl := s.File.Slice; sl != nil {
+		for _, kv := range []struct{ key, v string }{{"x", sl.X}, {"y", sl.Y}} {
+			if kv.v != "" && !known(kv.v) {
+				return s.errAt("slice", -1, kv.key, "%s = %q: no such coupling; the couplings are %s", kv.key, kv.v, strings.Join(names, ", "))
+			}
+		}
+		for _, r := range []struct {
+			key string
+			v   []float64
+		}{{"x_range", sl.XRange}, {"y_range", sl.YRange}} {
+			if r.v != nil && (len(r.v) != 2 || !(r.v[1] > r.v[0]) || math.IsInf(r.v[0], 0) || math.IsInf(r.v[1], 0)) {
+				return s.errAt("slice", -1, r.key, "%s must be [low, high] with finite low < high", r.key)
+			}
+		}
+		for k := range sl.Held {
+			if !known(k) {
+				return s.errAt("slice", -1, "held", "held %s: no such coupling; the couplings are %s", k, strings.Join(names, ", "))
+			}
+		}
+	}
+	if p := s.File.Path; p != nil {
+		if p.Along != "" {
+			name, rest, ok := strings.Cut(p.Along, "=")
+			parts := strings.Split(rest, ":")
+			if !ok || (name != "T" && !known(strings.TrimSpace(name))) || len(parts) < 2 || len(parts) > 3 {
+				return s.errAt("path", -1, "along", "along = %q: expected NAME=FROM:TO[:N] with NAME T or one of %s", p.Along, strings.Join(names, ", "))
+			}
+			for _, x := range parts[:2] {
+				if _, err := strconv.ParseFloat(strings.TrimSpace(x), 64); err != nil {
+					return s.errAt("path", -1, "along", "along = %q: %q is not a number", p.Along, x)
+				}
+			}
+		}
+		if p.At != "" {
+			for _, part := range strings.Split(p.At, ",") {
+				name, v, ok := strings.Cut(part, "=")
+				if _, err := strconv.ParseFloat(strings.TrimSpace(v), 64); !ok || !known(strings.TrimSpace(name)) || err != nil {
+					return s.errAt("path", -1, "at", "at = %q: expected NAME=VALUE,... over the couplings %s", p.At, strings.Join(names, ", "))
+				}
+			}
+		}
+	}
+	return nil
 }

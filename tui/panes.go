@@ -83,7 +83,11 @@ func (m Model) sideView() string {
 		for i, c := range cs {
 			parts = append(parts, c.Name+"="+report.Text(t.X[i], 4))
 		}
-		line(fmt.Sprintf("%d %s g=%s", k, strings.Join(parts, " "), report.Text(t.G, 4)))
+		g := report.Text(t.G, 4)
+		if t.G != t.G {
+			g = "n/a"
+		}
+		line(fmt.Sprintf("%d %s g=%s", k, strings.Join(parts, " "), g))
 	}
 	if m.stop != "" {
 		line(st.Dim.Render(m.stop))

@@ -76,9 +76,16 @@ func TraceText(w io.Writer, meta Meta, m flow.Map, t *flow.Trajectory) error {
 		for _, v := range p.X {
 			cols = append(cols, Text(v, 12))
 		}
-		fmt.Fprintf(tw, "%d\t%s\t%s\t\n", n, strings.Join(cols, "\t"), Text(p.G, 12))
+		g := Text(p.G, 12)
+		if p.G != p.G {
+			g = "n/a"
+		}
+		fmt.Fprintf(tw, "%d\t%s\t%s\t\n", n, strings.Join(cols, "\t"), g)
 	}
 	tw.Flush()
+	if hc, ok := m.(interface{ HasConstant() bool }); ok && !hc.HasConstant() {
+		b.WriteString("g: n/a, this recursion gives no constant (add constant = \"...\" to its [recursion] for thermodynamics)\n")
+	}
 	fmt.Fprintf(&b, "stopped: %s", t.Stop)
 	if t.Detail != "" {
 		fmt.Fprintf(&b, " (%s)", t.Detail)
