@@ -360,6 +360,7 @@ func CriticalText(w io.Writer, d CriticalDoc) error {
 				fmt.Fprintf(&b, "    T_c       = %s K for %s (exchange %s %s, convention %s: %s; scheme %s%s)\n",
 					Text(tk, min(dig, 6)), d.Material.Name, Text(d.Material.Exchange, 6), d.Material.Unit,
 					d.Material.Convention, d.Material.ConventionHelp, d.Meta.Scheme, ordText)
+				fmt.Fprintf(&b, "              (kT_c/J above is in units of the model's exchange, J_model/k_B = %s K for this material and convention)\n", Text(d.Material.JModelK, 6))
 				fmt.Fprintf(&b, "    CAUTION   %s\n", d.Material.Caution)
 			} else {
 				fmt.Fprintf(&b, "    T_c in kelvin: not given (%s)\n", why)
