@@ -99,7 +99,7 @@ func newChart(m Map, inf []int) *chart {
 
 // charts lists every chart of m: each coupling finite or at an infinity for
 // which it declares a compactified coordinate. The all-finite chart is first.
-func charts(m Map) []*chart {
+func charts(m Map, maxInf int) []*chart {
 	cs := m.Couplings()
 	opts := make([][]int, len(cs))
 	for i, c := range cs {
@@ -113,19 +113,41 @@ func charts(m Map) []*chart {
 	}
 	var out []*chart
 	inf := make([]int, len(cs))
-	var rec func(i int)
-	rec = func(i int) {
+	var rec func(i, used int)
+	rec = func(i, used int) {
 		if i == len(cs) {
 			out = append(out, newChart(m, inf))
 			return
 		}
 		for _, o := range opts[i] {
+			if o != 0 && used >= maxInf {
+				continue
+			}
 			inf[i] = o
-			rec(i + 1)
+			u := used
+			if o != 0 {
+				u++
+			}
+			rec(i+1, u)
 		}
+		inf[i] = 0
 	}
-	rec(0)
+	rec(0, 0)
 	return out
+}
+
+// maxInfinite is how many couplings a chart may put at infinity at once:
+// all of them for small maps, three from five couplings, two from seven
+// (the charts grow as 3^n; corners of many infinite couplings are rarely
+// reached analytically).
+func maxInfinite(n int) int {
+	switch {
+	case n <= 4:
+		return n
+	case n <= 6:
+		return 3
+	}
+	return 2
 }
 
 // name describes the chart, e.g. "K=+inf".
@@ -626,9 +648,19 @@ func rayCharts(m Map, p, sign int, shear []float64) []*chart {
 	var out []*chart
 	inf := make([]int, len(cs))
 	inf[p] = sign
+	limit := maxInfinite(len(cs)) - 1
 	var rec func(i int)
 	rec = func(i int) {
 		if i == len(cs) {
+			faces := 0
+			for j, v := range inf {
+				if j != p && v != 0 {
+					faces++
+				}
+			}
+			if faces > limit {
+				return
+			}
 			c := newChart(m, inf)
 			c.shear = append([]float64(nil), shear...)
 			c.pivot = p

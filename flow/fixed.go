@@ -158,6 +158,10 @@ type FindSettings struct {
 	// Concurrent is the number of charts searched at once; 0 means
 	// GOMAXPROCS. The map's Step must be safe for concurrent use.
 	Concurrent int
+	// Progress, if not nil, is called after each chart with the charts done
+	// and the total; it may be called from several goroutines, one at a
+	// time.
+	Progress func(done, total int)
 }
 
 func (s *FindSettings) defaults() *FindSettings {
@@ -225,7 +229,7 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 	t0 := time.Now()
 	s = s.defaults()
 	out := &FindResult{}
-	cs := append(charts(m), rays(m)...)
+	cs := append(charts(m, maxInfinite(len(m.Couplings()))), rays(m)...)
 	type chartOut struct {
 		pts               []found
 		starts, converged int
@@ -239,6 +243,7 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 	}
 	var panicked error
 	var pmu sync.Mutex
+	done := 0
 	for w := 0; w < workers; w++ {
 		wg.Add(1)
 		go func() {
@@ -254,6 +259,12 @@ func FindAll(ctx context.Context, m Map, s *FindSettings) (*FindResult, error) {
 					}()
 					pts, st, cv := searchChart(ctx, cs[k], s)
 					results[k] = chartOut{pts, st, cv}
+					if s.Progress != nil {
+						pmu.Lock()
+						done++
+						s.Progress(done, len(cs))
+						pmu.Unlock()
+					}
 				}()
 			}
 		}()

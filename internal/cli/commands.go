@@ -6,8 +6,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"os"
 	"strings"
 	"text/tabwriter"
+	"time"
 
 	"github.com/spf13/cobra"
 
@@ -77,9 +79,10 @@ func runFixed(ctx context.Context, o *options, stdout io.Writer) error {
 	var res *flow.FindResult
 	err = safely(func() error {
 		var e error
-		res, e = flow.FindAll(ctx, b.m, nil)
+		res, e = flow.FindAll(ctx, b.m, progressSettings())
 		return e
 	})
+	clearProgress()
 	if err != nil {
 		if errors.Is(err, flow.ErrCanceled) {
 			return fmt.Errorf("interrupted: fixed-point search canceled")
@@ -311,4 +314,28 @@ func safely(f func() error) (err error) {
 		}
 	}()
 	return f()
+}
+
+// progressSettings reports the search's progress on a terminal's standard
+// error once it has run for more than a second.
+func progressSettings() *flow.FindSettings {
+	if !isTerminal(os.Stderr) {
+		return nil
+	}
+	start := time.Now()
+	return &flow.FindSettings{Progress: func(done, total int) {
+		if time.Since(start) > time.Second {
+			fmt.Fprintf(os.Stderr, "\rsearching for fixed points: chart %d of %d ", done, total)
+			progressShown = true
+		}
+	}}
+}
+
+var progressShown bool
+
+func clearProgress() {
+	if progressShown {
+		fmt.Fprint(os.Stderr, "\r\033[K")
+		progressShown = false
+	}
 }
