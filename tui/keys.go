@@ -16,7 +16,7 @@ type keyMap struct {
 	Scenarios, Params        key.Binding
 	Export, Help, Quit, Back key.Binding
 	Cancel                   key.Binding
-	Thermo, Quantity         key.Binding
+	Thermo, Quantity, Map    key.Binding
 }
 
 func defaultKeyMap() keyMap {
@@ -54,6 +54,7 @@ func defaultKeyMap() keyMap {
 		Cancel:    b([]string{"ctrl+x"}, "ctrl+x", "cancel the computation"),
 		Thermo:    b([]string{"T"}, "T", "thermodynamics along x (on/off)"),
 		Quantity:  b([]string{"Q"}, "Q", "next thermodynamic quantity"),
+		Map:       b([]string{"M"}, "M", "map of a quantity over the slice (on/off)"),
 	}
 }
 
@@ -67,6 +68,6 @@ func (k keyMap) FullHelp() [][]key.Binding {
 	return [][]key.Binding{
 		{k.Left, k.Right, k.Up, k.Down, k.PanLeft, k.PanRight, k.PanUp, k.PanDown, k.ZoomIn, k.ZoomOut},
 		{k.Step, k.Run, k.Clear, k.Fan, k.NextFixed, k.Table, k.CrossX, k.CrossY},
-		{k.Squeeze, k.Lines, k.Boundary, k.Thermo, k.Quantity, k.Scenarios, k.Params, k.Export, k.Cancel, k.Help, k.Back, k.Quit},
+		{k.Squeeze, k.Lines, k.Boundary, k.Thermo, k.Map, k.Quantity, k.Scenarios, k.Params, k.Export, k.Cancel, k.Help, k.Back, k.Quit},
 	}
 }

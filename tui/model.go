@@ -72,6 +72,8 @@ type Model struct {
 	thermoOn bool
 	thermo   thermoMsg
 	quantity int
+	mapOn    bool
+	qmap     mapMsg
 }
 
 // New returns the explorer on the study the options name.
@@ -214,6 +216,15 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		m.status = "thermodynamics along " + m.ax.Name + " through the cursor; Q changes the quantity, T returns"
 		m.render()
 		return m, nil
+	case mapMsg:
+		if msg.id != m.runID {
+			return m, nil
+		}
+		m.busy = ""
+		m.qmap = msg
+		m.status = "map of the slice; Q changes the quantity, M returns"
+		m.render()
+		return m, nil
 	case fanMsg:
 		if msg.id != m.runID {
 			return m, nil
@@ -353,6 +364,15 @@ func (m Model) key(msg tea.KeyMsg) (tea.Model, tea.Cmd) {
 			m.render()
 			return m, thermoCmd(ctx, id, m.slice, m.ax, m.cursor[1], 120)
 		}
+	case key.Matches(msg, k.Map):
+		m.mapOn = !m.mapOn
+		m.thermoOn = false
+		if m.mapOn {
+			pw, ph := m.plotSize()
+			ctx, id := m.start("computing the map of the slice")
+			m.render()
+			return m, mapCmd(ctx, id, m.slice, m.ax, m.ay, min(48, pw), min(24, ph))
+		}
 	case key.Matches(msg, k.Quantity):
 		m.quantity = (m.quantity + 1) % len(quantities)
 	case key.Matches(msg, k.Cancel):
@@ -468,6 +488,21 @@ func (m *Model) render() {
 		m.frame = m.thermoPlot().Render(pw, ph)
 		return
 	}
+	if m.mapOn {
+		p := m.mapPlot(max(4, pw-8), max(3, ph-2))
+		for i, fp := range m.points {
+			if m.slice.OnSlice(fp, 1e-6) {
+				r := kindRune(fp)
+				if i == m.sel {
+					r = '['
+				}
+				p.Markers = append(p.Markers, Marker{X: fp.X[m.slice.X], Y: fp.X[m.slice.Y], Rune: r, Style: styleFixed})
+			}
+		}
+		p.Markers = append(p.Markers, Marker{X: m.cursor[0], Y: m.cursor[1], Rune: '@', Style: styleCursor})
+		m.frame = p.Render(pw, ph)
+		return
+	}
 	p := Plot{AX: m.ax, AY: m.ay}
 	if m.show.lines {
 		p.Lines = append(append(p.Lines, m.lines...), m.fan...)
@@ -529,6 +564,10 @@ func (m Model) View() string {
 	body := lipgloss.JoinHorizontal(lipgloss.Top, plot.String(), st.Panel.Width(m.sideWidth()-1).Render(side))
 	axes := st.Dim.Render(trunc(fmt.Sprintf("x: %s   y: %s", m.ax.Label(), m.ay.Label()), max(10, m.width))) + "\n" +
 		st.Dim.Render(trunc(Legend, max(10, m.width)))
+	if m.mapOn {
+		axes = st.Dim.Render(trunc(fmt.Sprintf("map: %s over the slice, shaded by rank low \" .:-=+*#%%&\" high; blank: not available (Q next quantity, M back)",
+			quantities[m.quantity].name), max(10, m.width))) + "\n"
+	}
 	if m.thermoOn {
 		axes = st.Dim.Render(trunc(fmt.Sprintf("thermodynamics: %s against %s at %s = %s (Q next quantity, T back to the flow)",
 			quantities[m.quantity].name, m.ax.Name, m.ay.Name, report.Text(m.cursor[1], 4)), max(10, m.width))) + "\n"

@@ -91,3 +91,109 @@ func (m *Model) thermoPlot() Plot {
 	pad := (hi - lo) * 0.05
 	return Plot{AX: m.ax, AY: Axis{Name: q.name, Lo: lo - pad, Hi: hi + pad}, Lines: lines}
 }
+
+// mapMsg is a thermodynamic quantity over the slice.
+type mapMsg struct {
+	id     int
+	xs, ys []float64
+	values [][]flow.ThermoValues // [iy][ix]
+}
+
+// mapCmd computes the quantities on a gx×gy grid of the slice.
+func mapCmd(ctx context.Context, id int, sl flow.Slice, ax, ay Axis, gx, gy int) tea.Cmd {
+	return func() (msg tea.Msg) {
+		defer func() {
+			if r := recover(); r != nil {
+				msg = mapMsg{id: id}
+			}
+		}()
+		metric := []int{sl.X, sl.Y}
+		if sl.X == sl.Y {
+			metric = []int{sl.X}
+		}
+		out := mapMsg{id: id}
+		for i := 0; i < gx; i++ {
+			out.xs = append(out.xs, ax.Value((float64(i)+0.5)/float64(gx)))
+		}
+		for j := 0; j < gy; j++ {
+			out.ys = append(out.ys, ay.Value((float64(j)+0.5)/float64(gy)))
+		}
+		for _, y := range out.ys {
+			row := make([]flow.ThermoValues, gx)
+			for i, x := range out.xs {
+				if ctx.Err() != nil {
+					return mapMsg{id: id}
+				}
+				if math.IsInf(x, 0) || math.IsInf(y, 0) {
+					row[i] = flow.ThermoValues{F: math.NaN(), C: math.NaN(), U: math.NaN(), M: math.NaN(), Chi: math.NaN(), M0: math.NaN(), Xi: math.NaN(), R: math.NaN()}
+					continue
+				}
+				row[i] = flow.Thermo(sl.M, sl.Point(x, y), metric)
+			}
+			out.values = append(out.values, row)
+		}
+		return out
+	}
+}
+
+// shades from low to high.
+var shades = []rune(" .:-=+*#%&")
+
+// mapPlot shades each canvas cell by the quantity at the nearest grid
+// point, by rank among the finite values (so a diverging response does not
+// wash out the rest); cells where it is not available stay blank.
+func (m *Model) mapPlot(cw, ch int) Plot {
+	q := quantities[m.quantity]
+	var vals []float64
+	for _, row := range m.qmap.values {
+		for _, v := range row {
+			if x := q.get(v); !math.IsNaN(x) && !math.IsInf(x, 0) {
+				vals = append(vals, x)
+			}
+		}
+	}
+	sortFloats(vals)
+	rank := func(x float64) int {
+		if len(vals) == 0 {
+			return 0
+		}
+		lo, hi := 0, len(vals)
+		for lo < hi {
+			mid := (lo + hi) / 2
+			if vals[mid] < x {
+				lo = mid + 1
+			} else {
+				hi = mid
+			}
+		}
+		return 1 + lo*(len(shades)-2)/max(1, len(vals)-1)
+	}
+	p := Plot{AX: m.ax, AY: m.ay}
+	gx, gy := len(m.qmap.xs), len(m.qmap.ys)
+	if gx == 0 || gy == 0 {
+		return p
+	}
+	for cy := 0; cy < ch; cy++ {
+		for cx := 0; cx < cw; cx++ {
+			fx := (float64(cx) + 0.5) / float64(cw)
+			fy := 1 - (float64(cy)+0.5)/float64(ch)
+			i := min(gx-1, int(fx*float64(gx)))
+			j := min(gy-1, int(fy*float64(gy)))
+			x := q.get(m.qmap.values[j][i])
+			if math.IsNaN(x) || math.IsInf(x, 0) {
+				continue
+			}
+			p.Markers = append(p.Markers, Marker{X: m.ax.Value(fx), Y: m.ay.Value(fy), Rune: shades[min(len(shades)-1, rank(x))], Style: styleNone})
+		}
+	}
+	return p
+}
+
+func sortFloats(v []float64) {
+	// insertion sort is enough for a few thousand values
+	for i := 1; i < len(v); i++ {
+		for j := i; j > 0 && v[j] < v[j-1]; j-- {
+			v[j], v[j-1] = v[j-1], v[j]
+		}
+	}
+}

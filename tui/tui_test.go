@@ -461,3 +461,29 @@ func TestMouseClick(t *testing.T) {
 		t.Errorf("cursor %v after a click at (0.3, 0.5)", c)
 	}
 }
+
+// The map view shades the engine's values: each grid value is flow.Thermo
+// at that point of the slice (the chain's specific heat, checked against
+// Baxter's closed form in the decimation tests).
+func TestMapView(t *testing.T) {
+	m := newSolved(t, Options{Scenario: "chain-compound"}, 100, 30)
+	ctx, id := m.start("test")
+	msg := mapCmd(ctx, id, m.slice, m.ax, m.ay, 6, 4)().(mapMsg)
+	mm, _ := m.Update(msg)
+	m = mm.(Model)
+	m.mapOn = true
+	m.quantity = 1
+	m.render()
+	for j, y := range m.qmap.ys {
+		for i, x := range m.qmap.xs {
+			want := flow.Thermo(m.slice.M, m.slice.Point(x, y), []int{0, 1}).C
+			got := m.qmap.values[j][i].C
+			if !(got == want || (math.IsNaN(got) && math.IsNaN(want))) {
+				t.Errorf("(%g, %g): C = %g, want %g", x, y, got, want)
+			}
+		}
+	}
+	if v := ansi.Strip(m.View()); !strings.Contains(v, "map: specific heat") {
+		t.Errorf("the map view does not name its quantity:\n%s", v)
+	}
+}
