@@ -162,8 +162,6 @@ func (o *options) build() (*built, error) {
 	if err != nil {
 		return nil, usagef("%v", err)
 	}
-	mset := map[string]string{}
-	sset := map[string]string{}
 	inModel := func(n string) bool { return hasParam(ms.Params, n) }
 	inScheme := func(n string) bool { return hasParam(ss.Params, n) }
 	// Couplings of the model, for a clear message when one is given to --set.
@@ -173,40 +171,21 @@ func (o *options) build() (*built, error) {
 			couplings = append(couplings, c.Name)
 		}
 	}
-	for _, kv := range o.set {
-		name, val, ok := strings.Cut(kv, "=")
-		name = strings.TrimSpace(name)
-		if !ok || name == "" {
-			return nil, usagef("--set %q: expected NAME=VALUE, e.g. --set b=2", kv)
-		}
-		if strings.Contains(val, "=") {
-			return nil, usagef("--set %q: one NAME=VALUE per --set (repeat --set for more)", kv)
-		}
+	given, err := o.setMap()
+	if err != nil {
+		return nil, err
+	}
+	for _, name := range sortedKeys(given) {
+		kv := name + "=" + given[name]
 		switch {
-		case inModel(name):
-			if _, dup := mset[name]; dup {
-				return nil, usagef("--set %s given twice", name)
-			}
-			mset[name] = val
-		case inScheme(name):
-			if _, dup := sset[name]; dup {
-				return nil, usagef("--set %s given twice", name)
-			}
-			sset[name] = val
+		case inModel(name), inScheme(name):
 		case contains(couplings, name):
 			return nil, usagef("--set %s: %s is a coupling of %s, not a parameter; give couplings with --from (e.g. --from %s=0.5)", kv, name, ms.Name, name)
 		default:
 			return nil, usagef("--set %s: no parameter %q for model %s with scheme %s; accepted: %s", kv, name, ms.Name, ss.Name, acceptedParams(ms, ss))
 		}
 	}
-	set := map[string]string{}
-	for k, v := range mset {
-		set[k] = v
-	}
-	for k, v := range sset {
-		set[k] = v
-	}
-	bt, err := decimation.Build(ms.Name, ss.Name, set)
+	bt, err := decimation.Build(ms.Name, ss.Name, given)
 	if err != nil {
 		return nil, usagef("%v", err)
 	}
