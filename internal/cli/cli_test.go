@@ -425,3 +425,29 @@ func TestThermoJSON(t *testing.T) {
 		t.Errorf("bond moving at the disordered sink: the susceptibility must be null with a flag, got %v", doc.Points[0]["susceptibility"])
 	}
 }
+
+// Near the bond-moving Ising transition, thermo reports effective
+// exponents beside the predicted ones (reported, not asserted, beyond a
+// loose check that they are the same numbers within 5 %: the predicted β is
+// (d − y_h)/y_t from the eigenvalues, which other tests check against the
+// closed-form recursion of Pathria and Beale).
+func TestThermoEffectiveExponents(t *testing.T) {
+	code, out, errs := run("thermo", "--model", "ising", "--scheme", "bondmove", "--along", "T=2:5:5", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc struct {
+		Effective []map[string]any `json:"effective_exponents"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Effective) != 1 {
+		t.Fatalf("%d entries, want one near T_c", len(doc.Effective))
+	}
+	e := doc.Effective[0]
+	b, bp := e["beta_from_spontaneous_magnetization"].(float64), e["beta_predicted"].(float64)
+	if math.Abs(b-bp) > 0.05*bp {
+		t.Errorf("beta %g vs predicted %g", b, bp)
+	}
+}
