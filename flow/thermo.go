@@ -89,12 +89,28 @@ type Derivatives struct {
 // grows, which the caller flags).
 func FreeEnergyDerivatives(m Map, x []float64, idx []int, order int) Derivatives {
 	k := len(idx)
+	// The stencils of different derivatives and Richardson levels share
+	// points: each is summed once.
+	cache := map[string]float64{}
+	key := make([]byte, 0, 8*k)
 	f := func(dx []float64) float64 {
+		key = key[:0]
+		for _, v := range dx {
+			b := math.Float64bits(v + 0) // -0 and +0 are one point
+			for s := 0; s < 64; s += 8 {
+				key = append(key, byte(b>>s))
+			}
+		}
+		if v, ok := cache[string(key)]; ok {
+			return v
+		}
 		y := append([]float64(nil), x...)
 		for a, i := range idx {
 			y[i] += dx[a]
 		}
-		return FreeEnergy(m, y).Value
+		v := FreeEnergy(m, y).Value
+		cache[string(key)] = v
+		return v
 	}
 	f0r := FreeEnergy(m, x)
 	out := Derivatives{F: f0r.Value, Grad: make([]float64, k), Hess: make([][]float64, k)}
