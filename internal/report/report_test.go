@@ -58,6 +58,16 @@ func TestJSONNonFinite(t *testing.T) {
 	docs := map[string]func() any{
 		"fixed": func() any { d := Fixed(meta, m, res); return &d },
 		"trace": func() any { d := Trace(meta, m, tr); return &d },
+		"critical": func() any {
+			path := flow.Path{Name: "T", From: 1, To: 2, Samples: 3, Point: func(dst []float64, s float64) { dst[0], dst[1] = 1/s, 0 }}
+			cd := CriticalDoc{Meta: meta, Map: m, Path: path, Temperature: true, At: map[string]float64{"h": 0}, Tolerance: 1e-10,
+				Crossings: []flow.Crossing{{Value: 1.5, Bracket: [2]float64{1.4, 1.6}, Controlling: 1, Kind: flow.Continuous}},
+				Points:    res.Points,
+				Material:  &MaterialInfo{Name: "x", Exchange: 1, Unit: "meV", Convention: "ising", JModelK: 11.6},
+				Sweep: &SweepDoc{Name: "h", Rows: []SweepRow{{Value: 0.1}}, Changes: []KindChange{{From: flow.Continuous, To: flow.FirstOrder, Value: 1, Bracket: [2]float64{0, 2}, PathValue: 1}}}}
+			d := Critical(cd)
+			return &d
+		},
 	}
 	for name, mk := range docs {
 		for _, f := range []float64{math.Inf(1), math.Inf(-1), math.NaN()} {
