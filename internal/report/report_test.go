@@ -64,7 +64,7 @@ func TestJSONNonFinite(t *testing.T) {
 				Crossings: []flow.Crossing{{Value: 1.5, Bracket: [2]float64{1.4, 1.6}, Controlling: 1, Kind: flow.Continuous}},
 				Points:    res.Points,
 				Material:  &MaterialInfo{Name: "x", Exchange: 1, Unit: "meV", Convention: "ising", JModelK: 11.6},
-				Sweep: &SweepDoc{Name: "h", Rows: []SweepRow{{Value: 0.1}}, Changes: []KindChange{{From: flow.Continuous, To: flow.FirstOrder, Value: 1, Bracket: [2]float64{0, 2}, PathValue: 1}}}}
+				Sweep:     &SweepDoc{Name: "h", Rows: []SweepRow{{Value: 0.1}}, Changes: []KindChange{{From: flow.Continuous, To: flow.FirstOrder, Value: 1, Bracket: [2]float64{0, 2}, PathValue: 1}}}}
 			d := Critical(cd)
 			return &d
 		},
