@@ -45,6 +45,8 @@ type Model struct {
 
 	basis []float64 // m × size, row a = φ_a
 	pinv  []float64 // (m+1) × size, pseudo-inverse of [1 φ_1 … φ_m]
+	// pinvAbs[a] is Σ_e |pinv[a][e]|, the rounding gain of row a.
+	pinvAbs []float64
 
 	// Potts algebra: ln|q−1|, sign(q−1), ln|q−2|, sign(q−2).
 	lnQ1, sgQ1, lnQ2, sgQ2 float64
@@ -359,6 +361,12 @@ func newFull(name, symmetry string, n int, cs []flow.Coupling, phi []func(s, t i
 		}
 	}
 	m.pinv = pseudoInverse(design)
+	m.pinvAbs = make([]float64, len(cs)+1)
+	for a := range m.pinvAbs {
+		for _, v := range m.pinv[a*sz : (a+1)*sz] {
+			m.pinvAbs[a] += math.Abs(v)
+		}
+	}
 	return m
 }
 

@@ -450,4 +450,8 @@ func TestThermoEffectiveExponents(t *testing.T) {
 	if math.Abs(b-bp) > 0.05*bp {
 		t.Errorf("beta %g vs predicted %g", b, bp)
 	}
+	g, gp := e["gamma_from_susceptibility"].(float64), e["gamma_predicted"].(float64)
+	if math.Abs(g-gp) > 0.02*gp {
+		t.Errorf("gamma %g vs predicted %g", g, gp)
+	}
 }

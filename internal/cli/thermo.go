@@ -260,12 +260,15 @@ func effectiveExponents(ctx context.Context, b *built, p flow.Path, metric []int
 			continue
 		}
 		fp := sp.Points()[c.Controlling]
-		r := report.Effective{At: c.Value, Variable: p.Name, Nu: nan(), NuEff: nan(), Beta: nan(), BetaEff: nan(), AlphaMinus2: nan(), CurvatureEff: nan()}
+		r := report.Effective{At: c.Value, Variable: p.Name, Nu: nan(), NuEff: nan(), Beta: nan(), BetaEff: nan(), Gamma: nan(), GammaEff: nan(), AlphaMinus2: nan(), CurvatureEff: nan()}
 		if v, ok := flow.Lookup(fp.Exponents, "nu"); ok {
 			r.Nu = v
 		}
 		if v, ok := flow.Lookup(fp.Exponents, "beta"); ok {
 			r.Beta = v
+		}
+		if v, ok := flow.Lookup(fp.Exponents, "gamma"); ok {
+			r.Gamma = v
 		}
 		if v, ok := flow.Lookup(fp.Exponents, "alpha"); ok {
 			r.AlphaMinus2 = v - 2
@@ -298,6 +301,16 @@ func effectiveExponents(ctx context.Context, b *built, p flow.Path, metric []int
 				r.BetaEff = slope(func(x []float64) float64 {
 					_, st := flow.Ordered(b.m, x, e)
 					v, _ := flow.SpontaneousMagnetization(b.m, x, i, st)
+					return v
+				}, true)
+				// γ from χ(0+) on the ordered side: χ ~ t^{−γ}.
+				r.GammaEff = -slope(func(x []float64) float64 {
+					_, st := flow.Ordered(b.m, x, e)
+					x[i] = 0
+					v, ok := flow.OrderedSusceptibility(b.m, x, i, st)
+					if !ok {
+						return nan()
+					}
 					return v
 				}, true)
 				break

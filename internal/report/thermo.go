@@ -30,6 +30,7 @@ type Effective struct {
 	At                        float64
 	Nu, NuEff                 float64
 	Beta, BetaEff             float64
+	Gamma, GammaEff           float64
 	AlphaMinus2, CurvatureEff float64
 }
 
@@ -41,6 +42,8 @@ type EffectiveJSON struct {
 	NuEff        Num    `json:"nu_from_correlation_length"`
 	Beta         Num    `json:"beta_predicted"`
 	BetaEff      Num    `json:"beta_from_spontaneous_magnetization"`
+	Gamma        Num    `json:"gamma_predicted"`
+	GammaEff     Num    `json:"gamma_from_susceptibility"`
 	AlphaMinus2  Num    `json:"alpha_minus_2_predicted"`
 	CurvatureEff Num    `json:"exponent_of_curvature"`
 	Note         string `json:"note"`
@@ -119,7 +122,7 @@ func Thermo(d ThermoDoc) ThermoJSON {
 	}
 	j.Effective = []EffectiveJSON{}
 	for _, e := range d.Effective {
-		j.Effective = append(j.Effective, EffectiveJSON{e.Variable, Num(e.At), Num(e.Nu), Num(e.NuEff), Num(e.Beta), Num(e.BetaEff), Num(e.AlphaMinus2), Num(e.CurvatureEff), effectiveNote})
+		j.Effective = append(j.Effective, EffectiveJSON{e.Variable, Num(e.At), Num(e.Nu), Num(e.NuEff), Num(e.Beta), Num(e.BetaEff), Num(e.Gamma), Num(e.GammaEff), Num(e.AlphaMinus2), Num(e.CurvatureEff), effectiveNote})
 	}
 	return j
 }
@@ -191,6 +194,7 @@ func ThermoText(w io.Writer, d ThermoDoc) error {
 		fmt.Fprintf(&b, "\nnear the continuous transition at %s = %s (%s):\n", e.Variable, Text(e.At, 10), effectiveNote)
 		fmt.Fprintf(&b, "  nu:        %s from the correlation length, %s predicted (1/y_t)\n", Text(e.NuEff, 4), Text(e.Nu, 4))
 		fmt.Fprintf(&b, "  beta:      %s from the spontaneous magnetization, %s predicted ((d - y_h)/y_t)\n", Text(e.BetaEff, 4), Text(e.Beta, 4))
+		fmt.Fprintf(&b, "  gamma:     %s from the susceptibility at h -> 0+ on the ordered side, %s predicted ((2 y_h - d)/y_t)\n", Text(e.GammaEff, 4), Text(e.Gamma, 4))
 		if e.CurvatureEff == e.CurvatureEff {
 			fmt.Fprintf(&b, "  curvature: exponent %s, alpha - 2 = %s predicted (hyperscaling: R ~ correlation volume)\n", Text(e.CurvatureEff, 4), Text(e.AlphaMinus2, 4))
 		} else {
