@@ -454,4 +454,33 @@ func TestThermoEffectiveExponents(t *testing.T) {
 	if math.Abs(g-gp) > 0.02*gp {
 		t.Errorf("gamma %g vs predicted %g", g, gp)
 	}
+	for _, k := range [][2]string{{"nu_from_correlation_length", "nu_predicted"}, {"alpha_from_specific_heat", "alpha_predicted"}} {
+		v, vp := e[k[0]].(float64), e[k[1]].(float64)
+		if math.Abs(v-vp) > 0.02*math.Abs(vp) {
+			t.Errorf("%s %g vs %s %g", k[0], v, k[1], vp)
+		}
+	}
+}
+
+// For Potts the effective β is read from the order parameter
+// (q m0 − 1)/(q − 1), which vanishes at T_c, not from m0 → 1/q.
+func TestThermoEffectivePotts(t *testing.T) {
+	code, out, errs := run("thermo", "--model", "potts", "--set", "q=3", "--scheme", "bondmove", "--along", "T=0.5:3:6", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc struct {
+		Effective []map[string]any `json:"effective_exponents"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Effective) != 1 {
+		t.Fatalf("%d entries, want one near T_c", len(doc.Effective))
+	}
+	e := doc.Effective[0]
+	b, bp := e["beta_from_spontaneous_magnetization"].(float64), e["beta_predicted"].(float64)
+	if math.Abs(b-bp) > 0.05*bp {
+		t.Errorf("potts beta %g vs predicted %g", b, bp)
+	}
 }

@@ -105,18 +105,8 @@ disordered sink of bond moving) the value is null with a flag.`,
 				}
 			}
 			rows := thermoPoints(cmd.Context(), b.m, pts, mi)
-			if b.model != nil && strings.HasPrefix(b.model.Name(), "potts") {
-				// For Potts the field is on state 1: m is the fraction of
-				// sites in state 1, and the order parameter is (q m - 1)/(q - 1).
-				q := b.model.States()
-				for k := range rows {
-					if rows[k].M0 == rows[k].M0 {
-						rows[k].M0 = (q*rows[k].M0 - 1) / (q - 1)
-						if rows[k].M0 < 1e-12 {
-							rows[k].M0 = 0
-						}
-					}
-				}
+			for k := range rows {
+				rows[k].M0 = orderParameter(b, rows[k].M0)
 			}
 			doc := report.ThermoDoc{Meta: b.meta, Map: b.m, Metric: mi, Points: rows, Temperature: temp, T: ts}
 			if path != nil {
@@ -212,6 +202,22 @@ func gridPoints(m flow.Map, grid string, at map[string]float64) ([][]float64, er
 	return out, nil
 }
 
+// orderParameter turns the spontaneous magnetization m0 into the order
+// parameter: for Potts the field is on state 1, m0 is the fraction of sites
+// in state 1, and the order parameter is (q m0 - 1)/(q - 1); other models
+// return m0.
+func orderParameter(b *built, m0 float64) float64 {
+	if b.model == nil || !strings.HasPrefix(b.model.Name(), "potts") || m0 != m0 {
+		return m0
+	}
+	q := b.model.States()
+	v := (q*m0 - 1) / (q - 1)
+	if v < 1e-12 {
+		v = 0
+	}
+	return v
+}
+
 // thermoPoints computes every point, in parallel on all cores.
 func thermoPoints(ctx context.Context, m flow.Map, pts [][]float64, metric []int) []report.ThermoPoint {
 	out := make([]report.ThermoPoint, len(pts))
@@ -260,7 +266,7 @@ func effectiveExponents(ctx context.Context, b *built, p flow.Path, metric []int
 			continue
 		}
 		fp := sp.Points()[c.Controlling]
-		r := report.Effective{At: c.Value, Variable: p.Name, Nu: nan(), NuEff: nan(), Beta: nan(), BetaEff: nan(), Gamma: nan(), GammaEff: nan(), AlphaMinus2: nan(), CurvatureEff: nan()}
+		r := report.Effective{At: c.Value, Variable: p.Name, Nu: nan(), NuEff: nan(), Beta: nan(), BetaEff: nan(), Gamma: nan(), GammaEff: nan(), Alpha: nan(), AlphaEff: nan(), AlphaMinus2: nan(), CurvatureEff: nan()}
 		if v, ok := flow.Lookup(fp.Exponents, "nu"); ok {
 			r.Nu = v
 		}
@@ -271,7 +277,7 @@ func effectiveExponents(ctx context.Context, b *built, p flow.Path, metric []int
 			r.Gamma = v
 		}
 		if v, ok := flow.Lookup(fp.Exponents, "alpha"); ok {
-			r.AlphaMinus2 = v - 2
+			r.Alpha, r.AlphaMinus2 = v, v-2
 		}
 		at := func(sv float64) []float64 {
 			x := make([]float64, len(b.m.Couplings()))
@@ -287,21 +293,43 @@ func effectiveExponents(ctx context.Context, b *built, p flow.Path, metric []int
 			}
 			return at(c.Value * (1 - eps))
 		}
+		// The two reduced distances are 1e-3 and 1e-3/ratio with ratio =
+		// b^{k y_t}, the integer number k of log-periods closest to a
+		// decade: a hierarchical construction's log-periodic modulation
+		// of the amplitudes then cancels in the slope.
+		ratio := 10.0
+		if yt, ok := flow.Lookup(fp.Exponents, "y_t"); ok && yt > 0 {
+			per := yt * math.Log(b.m.Rescale())
+			ratio = math.Exp(per * math.Max(1, math.Round(math.Log(10)/per)))
+		}
+		const t1 = 1e-3
+		t2 := t1 / ratio
 		slope := func(f func(x []float64) float64, ordered bool) float64 {
-			a, bb := f(side(ordered, 1e-3)), f(side(ordered, 1e-4))
+			a, bb := f(side(ordered, t1)), f(side(ordered, t2))
 			if !(a > 0 && bb > 0) {
 				return nan()
 			}
-			return math.Log(bb/a) / math.Log(0.1)
+			return math.Log(bb/a) / math.Log(t2/t1)
 		}
 		r.NuEff = -slope(func(x []float64) float64 { v, _ := flow.CorrelationLength(b.m, x); return v }, false)
+		// α from the specific heat's singular part on the disordered
+		// side: the second difference D(t) = C(2t) − 2C(t) + C(0) removes
+		// the regular part's constant and linear terms and keeps
+		// A t^{−α}(2^{−α} − 2).
+		if c0 := flow.Thermo(b.m, at(c.Value), metric).C; !math.IsNaN(c0) {
+			cAt := func(eps float64) float64 { return flow.Thermo(b.m, side(false, eps), metric).C }
+			dd := func(eps float64) float64 { return math.Abs(cAt(2*eps) - 2*cAt(eps) + c0) }
+			if a, bb := dd(t1), dd(t2); a > 0 && bb > 0 {
+				r.AlphaEff = -math.Log(bb/a) / math.Log(t2/t1)
+			}
+		}
 		r.CurvatureEff = slope(func(x []float64) float64 { return math.Abs(flow.Thermo(b.m, x, metric).R) }, false)
 		for i, cp := range b.m.Couplings() {
 			if cp.Role == flow.Field {
 				r.BetaEff = slope(func(x []float64) float64 {
 					_, st := flow.Ordered(b.m, x, e)
 					v, _ := flow.SpontaneousMagnetization(b.m, x, i, st)
-					return v
+					return orderParameter(b, v)
 				}, true)
 				// γ from χ(0+) on the ordered side: χ ~ t^{−γ}.
 				r.GammaEff = -slope(func(x []float64) float64 {

@@ -31,6 +31,7 @@ type Effective struct {
 	Nu, NuEff                 float64
 	Beta, BetaEff             float64
 	Gamma, GammaEff           float64
+	Alpha, AlphaEff           float64
 	AlphaMinus2, CurvatureEff float64
 }
 
@@ -44,12 +45,14 @@ type EffectiveJSON struct {
 	BetaEff      Num    `json:"beta_from_spontaneous_magnetization"`
 	Gamma        Num    `json:"gamma_predicted"`
 	GammaEff     Num    `json:"gamma_from_susceptibility"`
+	Alpha        Num    `json:"alpha_predicted"`
+	AlphaEff     Num    `json:"alpha_from_specific_heat"`
 	AlphaMinus2  Num    `json:"alpha_minus_2_predicted"`
 	CurvatureEff Num    `json:"exponent_of_curvature"`
 	Note         string `json:"note"`
 }
 
-const effectiveNote = "log slopes between reduced distances 1e-3 and 1e-4 from the transition; reported, not asserted: regular parts and, for bond moving (a hierarchical construction), log-periodic oscillations shift them"
+const effectiveNote = "log slopes between reduced distances 1e-3 and 1e-3/b^(k y_t), the whole number k of log-periods closest to a decade; reported, not asserted: regular parts and, for bond moving (a hierarchical construction), log-periodic oscillations shift them"
 
 // ThermoPointJSON is one point in the `thermo --json` contract.
 type ThermoPointJSON struct {
@@ -122,7 +125,7 @@ func Thermo(d ThermoDoc) ThermoJSON {
 	}
 	j.Effective = []EffectiveJSON{}
 	for _, e := range d.Effective {
-		j.Effective = append(j.Effective, EffectiveJSON{e.Variable, Num(e.At), Num(e.Nu), Num(e.NuEff), Num(e.Beta), Num(e.BetaEff), Num(e.Gamma), Num(e.GammaEff), Num(e.AlphaMinus2), Num(e.CurvatureEff), effectiveNote})
+		j.Effective = append(j.Effective, EffectiveJSON{e.Variable, Num(e.At), Num(e.Nu), Num(e.NuEff), Num(e.Beta), Num(e.BetaEff), Num(e.Gamma), Num(e.GammaEff), Num(e.Alpha), Num(e.AlphaEff), Num(e.AlphaMinus2), Num(e.CurvatureEff), effectiveNote})
 	}
 	return j
 }
@@ -195,6 +198,7 @@ func ThermoText(w io.Writer, d ThermoDoc) error {
 		fmt.Fprintf(&b, "  nu:        %s from the correlation length, %s predicted (1/y_t)\n", Text(e.NuEff, 4), Text(e.Nu, 4))
 		fmt.Fprintf(&b, "  beta:      %s from the spontaneous magnetization, %s predicted ((d - y_h)/y_t)\n", Text(e.BetaEff, 4), Text(e.Beta, 4))
 		fmt.Fprintf(&b, "  gamma:     %s from the susceptibility at h -> 0+ on the ordered side, %s predicted ((2 y_h - d)/y_t)\n", Text(e.GammaEff, 4), Text(e.Gamma, 4))
+		fmt.Fprintf(&b, "  alpha:     %s from the specific heat's singular part (second difference C(2t) - 2C(t) + C(0) removes the regular part), %s predicted (2 - d/y_t)\n", Text(e.AlphaEff, 4), Text(e.Alpha, 4))
 		if e.CurvatureEff == e.CurvatureEff {
 			fmt.Fprintf(&b, "  curvature: exponent %s, alpha - 2 = %s predicted (hyperscaling: R ~ correlation volume)\n", Text(e.CurvatureEff, 4), Text(e.AlphaMinus2, 4))
 		} else {
