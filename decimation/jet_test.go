@@ -43,6 +43,27 @@ func TestJetChainExact(t *testing.T) {
 	}
 }
 
+// Thermo's curvature on the Ising chain against the closed form of Dolan,
+// Johnston and Kenna (J. Phys. A 35, 9025, 2002) to 1e-8 along a
+// temperature path in a field, and, deep in the frozen corner (K = 5,
+// h = 0.5, where the metric is 1e-8 and R a small difference of terms of
+// order 1e8), flagged instead of given.
+func TestThermoCurvatureChain(t *testing.T) {
+	c := mustChain(t, NewIsing(), 2)
+	for _, T := range []float64{0.4, 0.6, 1, 2, 4} {
+		K, h := 1/T, 0.1/T
+		want := 1 + math.Cosh(h)/math.Sqrt(math.Sinh(h)*math.Sinh(h)+math.Exp(-4*K))
+		p := flow.Thermo(c, []float64{K, h}, []int{0, 1})
+		if !(math.Abs(p.R-want) <= 1e-8*want) {
+			t.Errorf("T = %g: R = %.12g, want %.12g (Dolan, Johnston, Kenna 2002); flags %q", T, p.R, want, p.Flags)
+		}
+	}
+	p := flow.Thermo(c, []float64{5, 0.5}, []int{0, 1})
+	if !math.IsNaN(p.R) {
+		t.Errorf("K = 5, h = 0.5: R = %g given; want it flagged as ill-conditioned", p.R)
+	}
+}
+
 // On the bond-moving and hierarchical maps (full representation and the
 // Potts algebra) the jets agree with the numerical derivatives of the
 // summed free energy within the latter's error estimates.

@@ -57,3 +57,64 @@ func HessianCurvature(g [][]float64, t [][][]float64) float64 {
 	}
 	return r
 }
+
+// CurvatureError bounds the error of HessianCurvature(g, t) caused by
+// absolute errors eg in each metric component and et in each third
+// derivative: the sum over the independent components of |∂R/∂component|
+// times its error, the partial derivatives by central differences. Near a
+// frozen corner of a phase diagram the metric and its derivatives are tiny
+// and R is a small difference of large terms: this is what tells.
+func CurvatureError(g [][]float64, t [][][]float64, eg, et float64) float64 {
+	n := len(g)
+	g2 := make([][]float64, n)
+	for i := range g2 {
+		g2[i] = append([]float64(nil), g[i]...)
+	}
+	t2 := make([][][]float64, n)
+	for i := range t2 {
+		t2[i] = make([][]float64, n)
+		for j := range t2[i] {
+			t2[i][j] = append([]float64(nil), t[i][j]...)
+		}
+	}
+	var total float64
+	// Metric components g_ij, i ≤ j, perturbed symmetrically.
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			h := 1e-6 * math.Max(math.Abs(g[i][j]), eg)
+			if h == 0 {
+				continue
+			}
+			set := func(v float64) { g2[i][j], g2[j][i] = v, v }
+			set(g[i][j] + h)
+			rp := HessianCurvature(g2, t2)
+			set(g[i][j] - h)
+			rm := HessianCurvature(g2, t2)
+			set(g[i][j])
+			total += math.Abs((rp-rm)/(2*h)) * eg
+		}
+	}
+	// Third derivatives t_ijk, i ≤ j ≤ k, perturbed in every permutation.
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			for k := j; k < n; k++ {
+				h := 1e-6 * math.Max(math.Abs(t[i][j][k]), et)
+				if h == 0 {
+					continue
+				}
+				set := func(v float64) {
+					for _, p := range [][3]int{{i, j, k}, {i, k, j}, {j, i, k}, {j, k, i}, {k, i, j}, {k, j, i}} {
+						t2[p[0]][p[1]][p[2]] = v
+					}
+				}
+				set(t[i][j][k] + h)
+				rp := HessianCurvature(g2, t2)
+				set(t[i][j][k] - h)
+				rm := HessianCurvature(g2, t2)
+				set(t[i][j][k])
+				total += math.Abs((rp-rm)/(2*h)) * et
+			}
+		}
+	}
+	return total
+}
