@@ -28,26 +28,18 @@ type jetWork struct {
 	c, sg          []float64
 }
 
-var jetPools sync.Map // *Model -> *sync.Pool of *jetWork
-
+// jetWork returns scratch from the model's pool (the caller puts it back).
 func (m *Model) jetWork() (*jetWork, *sync.Pool) {
-	if p, ok := jetPools.Load(m); ok {
-		pool := p.(*sync.Pool)
-		return pool.Get().(*jetWork), pool
+	if w, ok := m.jets.Get().(*jetWork); ok {
+		return w, &m.jets
 	}
-	pool := &sync.Pool{New: func() any {
-		const L = 20
-		n := max(m.n, 3)
-		w := &jetWork{
-			base: make([]float64, m.size*L), res: make([]float64, m.size*L), tmp: make([]float64, m.size*L),
-			xb: make([]float64, len(m.couplings)*L), col: make([]float64, m.size), x: make([]float64, len(m.couplings)),
-			bufs: make([]float64, n*L), terms: make([][]float64, n), c: make([]float64, n), sg: make([]float64, n),
-		}
-		return w
-	}}
-	p, _ := jetPools.LoadOrStore(m, pool)
-	pool = p.(*sync.Pool)
-	return pool.Get().(*jetWork), pool
+	const L = 20
+	n := max(m.n, 3)
+	return &jetWork{
+		base: make([]float64, m.size*L), res: make([]float64, m.size*L), tmp: make([]float64, m.size*L),
+		xb: make([]float64, len(m.couplings)*L), col: make([]float64, m.size), x: make([]float64, len(m.couplings)),
+		bufs: make([]float64, n*L), terms: make([][]float64, n), c: make([]float64, n), sg: make([]float64, n),
+	}, &m.jets
 }
 
 // edgeJet is Edge on jets: dst_e = Σ_a x_a φ_a(e).
@@ -160,7 +152,9 @@ func (m *Model) mulJet(s *flow.JetSpace, w *jetWork, dst, a, b []float64) {
 // it is a difference of (16 ε Σ_e |P_ae| max_e |lw_e|, P the projection) is
 // set to zero: deep in a sink at infinite coupling a coupling the flow
 // kills is computed as a difference of large entries, and its rounding,
-// amplified along the flow, would otherwise swamp the derivatives.
+// amplified along the flow, would otherwise swamp the derivatives. (A field
+// below that level is then exactly zero, and a sum that needs it to grow
+// is flagged rather than given from noise.)
 func (m *Model) projectJet(s *flow.JetSpace, w *jetWork, dst, cst, lw []float64) {
 	L := s.Len()
 	col, x := w.col, w.x

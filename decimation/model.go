@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sync"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -47,6 +48,7 @@ type Model struct {
 	pinv  []float64 // (m+1) × size, pseudo-inverse of [1 φ_1 … φ_m]
 	// pinvAbs[a] is Σ_e |pinv[a][e]|, the rounding gain of row a.
 	pinvAbs []float64
+	jets    sync.Pool // *jetWork scratch for StepJet
 
 	// Potts algebra: ln|q−1|, sign(q−1), ln|q−2|, sign(q−2).
 	lnQ1, sgQ1, lnQ2, sgQ2 float64

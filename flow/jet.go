@@ -286,11 +286,13 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 	}
 	q := math.Pow(m.Rescale(), -m.Dimension())
 	w := 1.0
-	rising := 0
-	prevNorm := math.Inf(1)
-	var lastNorm float64
+	ord := s.Order
+	// Per total degree k: the largest term t[k] and partial sum sm[k].
+	var t, sm, lastT [4]float64
+	var relHist [20]float64
 	bestRel := math.Inf(1)
-	var hist [20]float64 // the last twenty term sizes
+	prevRel := math.Inf(1)
+	var rerr float64 // the rounding estimate: 64 ε Σ w (|g_0| + max |g_c|)
 	done := false
 	for step := 0; step < 2000 && !done; step++ {
 		if !j.StepJet(s, next, cur, g) {
@@ -298,7 +300,7 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 			return out
 		}
 		finite := true
-		var moved, size, tnorm, snorm float64
+		var moved, size float64
 		for i := range next {
 			if math.IsNaN(next[i]) || math.IsInf(next[i], 0) {
 				finite = false
@@ -310,57 +312,71 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 				size = v
 			}
 		}
+		t, sm = [4]float64{}, [4]float64{}
+		var gmax float64
 		for c := range g {
 			if math.IsNaN(g[c]) || math.IsInf(g[c], 0) {
 				finite = false
 			}
 			sum[c] += w * g[c]
-			if v := math.Abs(w * g[c]); v > tnorm {
-				tnorm = v
+			dg := s.Degree(c)
+			if v := math.Abs(w * g[c]); v > t[dg] {
+				t[dg] = v
 			}
-			if v := math.Abs(sum[c]); v > snorm {
-				snorm = v
+			if v := math.Abs(sum[c]); v > sm[dg] {
+				sm[dg] = v
+			}
+			if v := math.Abs(g[c]); v > gmax {
+				gmax = v
 			}
 		}
 		if !finite {
 			out.Flag = "the derivatives are not finite along the flow (a phase boundary or infinite coupling)"
 			return out
 		}
-		lastNorm = tnorm
-		rel := tnorm / snorm
+		rerr += 64 * 0x1p-52 * w * (math.Abs(g[0]) + gmax)
+		// Each coefficient's term against its own sum (one much smaller
+		// than the largest of its degree against 1e-6 of that): a
+		// diverging coefficient cannot hide behind a large converged one.
+		rel := 0.0
+		for c := range g {
+			tc := math.Abs(w * g[c])
+			if tc == 0 {
+				continue
+			}
+			den := math.Max(math.Abs(sum[c]), 1e-6*sm[s.Degree(c)])
+			if den == 0 {
+				rel = math.Inf(1)
+				continue
+			}
+			rel = math.Max(rel, tc/den)
+		}
+		lastT = t
 		switch {
 		case moved <= 1e-15*(1+size):
 			for c := range sum {
 				sum[c] += w * q * g[c] / (1 - q)
 			}
-			lastNorm = 0
+			lastT = [4]float64{}
 			done = true
 		case rel <= 1e-17:
 			done = true
-		case w*q == 0 || (step >= 60 && tnorm > 0.1*hist[(step-20)%20] && bestRel > 1e-9):
-			// Terms that have not fallen tenfold in twenty steps, late in
-			// the flow, belong to a sum that does not converge.
-			out.Flag = flagDiverged
-			return out
-		case tnorm > prevNorm && bestRel < 1e-9:
+		case rel > prevRel && bestRel < 1e-12:
 			// The rounding floor: deep in a sink at infinite coupling the
 			// renormalized couplings are differences of large numbers,
-			// whose rounding, amplified along the flow, stops the
-			// derivative terms from falling further.
+			// whose rounding, amplified along the flow, stops the terms
+			// from falling further; the sum is already good to 1e-12.
 			done = true
-		}
-		hist[step%20] = tnorm
-		bestRel = math.Min(bestRel, rel)
-		if tnorm >= prevNorm {
-			rising++
-		} else {
-			rising = 0
-		}
-		if rising > 40 {
+		case w*q == 0 || (step >= 60 && rel > 0.1*relHist[(step-20)%20]):
+			// Terms that have not fallen tenfold against their sums in
+			// twenty steps, late in the flow, belong to a sum that does
+			// not converge (or converges only to rounding noise).
 			out.Flag = flagDiverged
 			return out
 		}
-		prevNorm = tnorm
+		relHist[step%20] = rel
+		bestRel = math.Min(bestRel, rel)
+		prevRel = rel
 		w *= q
 		cur, next = next, cur
 	}
@@ -369,8 +385,11 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 		return out
 	}
 	out.F = sum[0]
-	out.Err = 2 * lastNorm
-	out.Err3 = 2 * lastNorm
+	// The tail after the last term is at most about that term (the terms
+	// fall at least geometrically by then); a Hessian entry is up to 2
+	// and a third derivative up to 6 times its coefficient.
+	out.Err = 4*lastT[min(2, ord)] + 2*rerr
+	out.Err3 = 12*lastT[min(3, ord)] + 6*rerr
 	alpha := make([]int, k)
 	d := func(ax ...int) float64 {
 		for i := range alpha {

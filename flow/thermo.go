@@ -94,6 +94,11 @@ func FreeEnergyDerivatives(m Map, x []float64, idx []int, order int) Derivatives
 	if _, ok := m.(Jetter); ok && len(idx) >= 1 && len(idx) <= 3 && order <= 3 {
 		d := FreeEnergyJet(m, x, idx, order)
 		if d.Flag == "" {
+			// The value from the plain sum, which stops on its own
+			// terms (the jet sum stops on the slowest coefficient).
+			if f := FreeEnergy(m, x); f.Flag == "" {
+				d.F = f.Value
+			}
 			return d
 		}
 		if d.Flag == flagDiverged {
@@ -386,7 +391,7 @@ func SpontaneousMagnetization(m Map, x []float64, h, steps int) (m0 float64, lim
 		if jets {
 			// The exact first derivative at h = v.
 			y[h] = v
-			if d := FreeEnergyJet(m, y, []int{h}, 1); d.Flag == "" {
+			if d := FreeEnergyJet(m, y, []int{h}, 1); d.Flag == "" && d.Err <= 1e-6*(1+math.Abs(d.Grad[0])) {
 				return d.Grad[0]
 			}
 		}
@@ -432,13 +437,19 @@ func OrderedSusceptibility(m Map, x []float64, h, steps int) (chi float64, ok bo
 	for i, s := range []float64{1, 2, 4} {
 		y[h] = s * d
 		r := FreeEnergyJet(m, y, []int{h}, 2)
-		if r.Flag != "" {
+		if r.Flag != "" || !(r.Err <= 1e-6*math.Abs(r.Hess[0][0])) {
 			return math.NaN(), false
 		}
 		v[i] = r.Hess[0][0]
 	}
 	r1, r2 := 2*v[0]-v[1], 2*v[1]-v[2]
-	return (4*r1 - r2) / 3, true
+	chi = (4*r1 - r2) / 3
+	// The three fields must tell the same limit: otherwise δ is not yet
+	// in the range where χ(h) is smooth, or rounding dominates.
+	if !(math.Abs(r1-r2) <= 1e-2*math.Abs(chi)) {
+		return math.NaN(), false
+	}
+	return chi, true
 }
 
 // ThermoValues are the thermodynamic quantities at one point; NaN where
@@ -507,9 +518,11 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 		}
 		// (When that sum diverges in one direction, as the field's on a
 		// first-order boundary, each set is summed on its own instead.)
-		if all := FreeEnergyDerivatives(m, x, union, 3); len(union) <= 3 && !math.IsInf(all.Err, 1) {
-			deriv = func(_ Map, _ []float64, idx []int, order int) Derivatives {
-				return all.restrict(union, idx, order)
+		if len(union) <= 3 {
+			if all := FreeEnergyDerivatives(m, x, union, 3); all.Flag == "" && all.Err <= 1e-6*(1+maxAbsMatrix(all.Hess)) {
+				deriv = func(_ Map, _ []float64, idx []int, order int) Derivatives {
+					return all.restrict(union, idx, order)
+				}
 			}
 		}
 	}
@@ -529,7 +542,11 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 	if e >= 0 && x[e] != 0 {
 		p.U = -xg / x[e] * perSite
 	}
-	if ok(d) {
+	var xs float64
+	for _, i := range ray {
+		xs += math.Abs(x[i])
+	}
+	if ok(d) && d.Err*xs*xs <= 1e-3*math.Abs(xx) {
 		p.C = xx * perSite
 	} else {
 		flag("specific heat", d)
@@ -568,7 +585,7 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 			// one-sided limits h -> 0+.
 			p.M, p.Chi = p.M0, chi0*perSite
 			p.Flags = append(p.Flags, "magnetization and susceptibility: the limits h -> 0+ (h = 0 is a first-order boundary in the ordered phase)")
-		case ok(dh):
+		case ok(dh) && dh.Err <= 1e-3*math.Abs(dh.Hess[0][0]):
 			p.Chi = dh.Hess[0][0] * perSite
 		default:
 			p.M = math.NaN()
