@@ -292,7 +292,7 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 	var relHist [20]float64
 	bestRel := math.Inf(1)
 	prevRel := math.Inf(1)
-	var rerr float64 // the rounding estimate: 64 ε Σ w (|g_0| + max |g_c|)
+	var rerr [4]float64 // per degree k, the rounding estimate 64 ε Σ w (|g_0| + max_k |g_c|)
 	done := false
 	for step := 0; step < 2000 && !done; step++ {
 		if !j.StepJet(s, next, cur, g) {
@@ -313,7 +313,6 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 			}
 		}
 		t, sm = [4]float64{}, [4]float64{}
-		var gmax float64
 		for c := range g {
 			if math.IsNaN(g[c]) || math.IsInf(g[c], 0) {
 				finite = false
@@ -326,15 +325,14 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 			if v := math.Abs(sum[c]); v > sm[dg] {
 				sm[dg] = v
 			}
-			if v := math.Abs(g[c]); v > gmax {
-				gmax = v
-			}
 		}
 		if !finite {
 			out.Flag = "the derivatives are not finite along the flow (a phase boundary or infinite coupling)"
 			return out
 		}
-		rerr += 64 * 0x1p-52 * w * (math.Abs(g[0]) + gmax)
+		for dg := 0; dg <= ord; dg++ {
+			rerr[dg] += 64 * 0x1p-52 * (w*math.Abs(g[0]) + t[dg])
+		}
 		// Each coefficient's term against its own sum (one much smaller
 		// than the largest of its degree against 1e-6 of that): a
 		// diverging coefficient cannot hide behind a large converged one.
@@ -388,8 +386,8 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 	// The tail after the last term is at most about that term (the terms
 	// fall at least geometrically by then); a Hessian entry is up to 2
 	// and a third derivative up to 6 times its coefficient.
-	out.Err = 4*lastT[min(2, ord)] + 2*rerr
-	out.Err3 = 12*lastT[min(3, ord)] + 6*rerr
+	out.Err = 4*lastT[min(2, ord)] + 2*rerr[min(2, ord)]
+	out.Err3 = 12*lastT[min(3, ord)] + 6*rerr[min(3, ord)]
 	alpha := make([]int, k)
 	d := func(ax ...int) float64 {
 		for i := range alpha {

@@ -633,12 +633,12 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 		}
 		// Rounding leaves every derivative an absolute error of at least
 		// a few ε |ln Z/N|; R is dropped where that, or the estimates,
-		// could move it by more than 1e-3 of itself.
+		// could move it by more than 1 % of itself.
 		floor := 64 * 0x1p-52 * (1 + math.Abs(dm.F)) * perSite
 		eg := math.Max(dm.Err*perSite, floor)
 		et := math.Max(dm.Err3*perSite, floor)
 		r := HessianCurvature(p.Metric, third)
-		if er := CurvatureError(p.Metric, third, eg, et); !(er <= 1e-3*math.Max(1, math.Abs(r))) {
+		if er := CurvatureError(p.Metric, third, eg, et); !(er <= 1e-2*math.Max(1, math.Abs(r))) {
 			p.Flags = append(p.Flags, fmt.Sprintf("curvature: ill-conditioned here (error bound %.2g from the derivatives' errors; the metric is tiny where the system is nearly frozen)", er))
 			return p
 		}
