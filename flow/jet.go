@@ -237,7 +237,7 @@ const flagDiverged = "the sum of the derivatives does not converge (on a phase b
 // (2 or 3) in the couplings idx (at most three), exactly to rounding, by
 // pushing jets through each step of a Jetter and summing
 // Σ b^{−dn} g(xₙ) coefficient by coefficient. The sum stops when every
-// coefficient of the remaining terms is below 1e-17 of the total, or,
+// coefficient of the remaining terms is below 1e-16 of its own sum (of 1e-3 of the largest of its degree for a small one), or,
 // once the flow and its derivatives have settled on a finite fixed point,
 // with the tail in closed form. A sum whose derivative terms stop falling
 // (on a phase boundary the derivatives do not exist: at h = 0 in an
@@ -334,7 +334,7 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 			rerr[dg] += 64 * 0x1p-52 * (w*math.Abs(g[0]) + t[dg])
 		}
 		// Each coefficient's term against its own sum (one much smaller
-		// than the largest of its degree against 1e-6 of that): a
+		// than the largest of its degree against 1e-3 of that): a
 		// diverging coefficient cannot hide behind a large converged one.
 		rel := 0.0
 		for c := range g {
@@ -342,7 +342,7 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 			if tc == 0 {
 				continue
 			}
-			den := math.Max(math.Abs(sum[c]), 1e-6*sm[s.Degree(c)])
+			den := math.Max(math.Abs(sum[c]), 1e-3*sm[s.Degree(c)])
 			if den == 0 {
 				rel = math.Inf(1)
 				continue
@@ -357,7 +357,7 @@ func FreeEnergyJet(m Map, x []float64, idx []int, order int) Derivatives {
 			}
 			lastT = [4]float64{}
 			done = true
-		case rel <= 1e-17:
+		case rel <= 1e-16:
 			done = true
 		case rel > prevRel && bestRel < 1e-12:
 			// The rounding floor: deep in a sink at infinite coupling the
