@@ -432,40 +432,25 @@ func TestThermoJSON(t *testing.T) {
 // (d − y_h)/y_t from the eigenvalues, which other tests check against the
 // closed-form recursion of Pathria and Beale).
 func TestThermoEffectiveExponents(t *testing.T) {
-	code, out, errs := run("thermo", "--model", "ising", "--scheme", "bondmove", "--along", "T=2:5:5", "--json")
-	if code != 0 {
-		t.Fatalf("exit %d: %s", code, errs)
-	}
-	var doc struct {
-		Effective []map[string]any `json:"effective_exponents"`
-	}
-	if err := json.Unmarshal([]byte(out), &doc); err != nil {
-		t.Fatal(err)
-	}
-	if len(doc.Effective) != 1 {
-		t.Fatalf("%d entries, want one near T_c", len(doc.Effective))
-	}
-	e := doc.Effective[0]
-	b, bp := e["beta_from_spontaneous_magnetization"].(float64), e["beta_predicted"].(float64)
-	if math.Abs(b-bp) > 0.05*bp {
-		t.Errorf("beta %g vs predicted %g", b, bp)
-	}
-	g, gp := e["gamma_from_susceptibility"].(float64), e["gamma_predicted"].(float64)
-	if math.Abs(g-gp) > 0.02*gp {
-		t.Errorf("gamma %g vs predicted %g", g, gp)
-	}
-	for _, k := range [][2]string{{"nu_from_correlation_length", "nu_predicted"}, {"alpha_from_specific_heat", "alpha_predicted"}} {
-		v, vp := e[k[0]].(float64), e[k[1]].(float64)
-		if math.Abs(v-vp) > 0.02*math.Abs(vp) {
-			t.Errorf("%s %g vs %s %g", k[0], v, k[1], vp)
-		}
-	}
+	e := effectiveNearTc(t, "thermo", "--model", "ising", "--scheme", "bondmove", "--along", "T=2:5:5", "--json")
+	closeTo(t, e, "beta_from_spontaneous_magnetization", "beta_predicted", 0.05)
+	closeTo(t, e, "gamma_from_susceptibility", "gamma_predicted", 0.02)
+	closeTo(t, e, "nu_from_correlation_length", "nu_predicted", 0.02)
+	closeTo(t, e, "alpha_from_specific_heat", "alpha_predicted", 0.02)
 }
 
 // For Potts the effective β is read from the order parameter
 // (q m0 − 1)/(q − 1), which vanishes at T_c, not from m0 → 1/q.
 func TestThermoEffectivePotts(t *testing.T) {
-	code, out, errs := run("thermo", "--model", "potts", "--set", "q=3", "--scheme", "bondmove", "--along", "T=0.5:3:6", "--json")
+	e := effectiveNearTc(t, "thermo", "--model", "potts", "--set", "q=3", "--scheme", "bondmove", "--along", "T=0.5:3:6", "--json")
+	closeTo(t, e, "beta_from_spontaneous_magnetization", "beta_predicted", 0.05)
+}
+
+// effectiveNearTc runs thermo --json with args and returns its one entry of
+// effective_exponents.
+func effectiveNearTc(t *testing.T, args ...string) map[string]any {
+	t.Helper()
+	code, out, errs := run(args...)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
@@ -478,9 +463,16 @@ func TestThermoEffectivePotts(t *testing.T) {
 	if len(doc.Effective) != 1 {
 		t.Fatalf("%d entries, want one near T_c", len(doc.Effective))
 	}
-	e := doc.Effective[0]
-	b, bp := e["beta_from_spontaneous_magnetization"].(float64), e["beta_predicted"].(float64)
-	if math.Abs(b-bp) > 0.05*bp {
-		t.Errorf("potts beta %g vs predicted %g", b, bp)
+	return doc.Effective[0]
+}
+
+// closeTo checks e[got] against e[want] within the relative tolerance tol
+// (a null is a failure).
+func closeTo(t *testing.T, e map[string]any, got, want string, tol float64) {
+	t.Helper()
+	g, ok1 := e[got].(float64)
+	w, ok2 := e[want].(float64)
+	if !ok1 || !ok2 || !(math.Abs(g-w) <= tol*math.Abs(w)) {
+		t.Errorf("%s = %v, %s = %v: want them within %g %%", got, e[got], want, e[want], 100*tol)
 	}
 }
