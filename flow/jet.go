@@ -237,9 +237,10 @@ const flagDiverged = "the sum of the derivatives does not converge (on a phase b
 // (2 or 3) in the couplings idx (at most three), exactly to rounding, by
 // pushing jets through each step of a Jetter and summing
 // Σ b^{−dn} g(xₙ) coefficient by coefficient. The sum stops when every
-// coefficient of the remaining terms is below 1e-16 of its own sum (of 1e-3 of the largest of its degree for a small one), or,
-// once the flow and its derivatives have settled on a finite fixed point,
-// with the tail in closed form. A sum whose derivative terms stop falling
+// coefficient's terms are below 1e-16 of its own sum (of 1e-3 of the
+// largest of its degree, for a small one), at the rounding floor once every
+// coefficient is good to 1e-12, or, once the flow and its derivatives have
+// settled on a finite fixed point, with the tail in closed form. A sum whose derivative terms stop falling
 // (on a phase boundary the derivatives do not exist: at h = 0 in an
 // ordered phase ∂²/∂h² grows with the system) is flagged, as is a step
 // that fails.
