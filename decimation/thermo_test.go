@@ -12,6 +12,20 @@ import (
 	"scalewalk/flow"
 )
 
+// isingChainExact returns the exact Ising chain in a field (R. J. Baxter,
+// Exactly Solved Models in Statistical Mechanics, 1982, ch. 2):
+// ψ = ln Z/N = K + ln[cosh h + √(sinh²h + e^{−4K})], m = ∂ψ/∂h =
+// sinh h/√(sinh²h + e^{−4K}) (from memory; the derivative of ψ), χ = ∂m/∂h =
+// cosh h e^{−4K}/(sinh²h + e^{−4K})^{3/2} (by hand), and the scalar curvature
+// of its metric in (K, h), R = 1 + cosh h/√(sinh²h + e^{−4K}) in the
+// convention R = 2 × Gaussian curvature, sphere positive (B. P. Dolan,
+// D. A. Johnston, R. Kenna, J. Phys. A 35, 9025, 2002; W. Janyszek,
+// R. Mrugala, Phys. Rev. A 39, 6515, 1989).
+func isingChainExact(K, h float64) (psi, mag, chi, R float64) {
+	s := math.Sqrt(math.Sinh(h)*math.Sinh(h) + math.Exp(-4*K))
+	return K + math.Log(math.Cosh(h)+s), math.Sinh(h) / s, math.Cosh(h) * math.Exp(-4*K) / (s * s * s), 1 + math.Cosh(h)/s
+}
+
 // Exact Ising chain in a field (R. J. Baxter, Exactly Solved Models in
 // Statistical Mechanics, 1982, ch. 2): ψ = K + ln[cosh h + √(sinh²h + e^{−4K})],
 // m = ∂ψ/∂h = sinh h/√(sinh²h + e^{−4K}) (from memory; it is the derivative of
@@ -24,10 +38,7 @@ func TestChainThermodynamics(t *testing.T) {
 		c := mustChain(t, NewIsing(), b)
 		for _, x := range [][2]float64{{0.5, 0.1}, {1.2, 0.3}, {-0.7, 0.4}, {0.3, -0.8}} {
 			K, h := x[0], x[1]
-			s := math.Sqrt(math.Sinh(h)*math.Sinh(h) + math.Exp(-4*K))
-			psi := K + math.Log(math.Cosh(h)+s)
-			mag := math.Sinh(h) / s
-			chi := math.Cosh(h) * math.Exp(-4*K) / (s * s * s)
+			psi, mag, chi, _ := isingChainExact(K, h)
 			// The numerical derivatives (for maps without jets); the
 			// exact ones are checked in TestJetChainExact.
 			d := flow.NumericalDerivatives(c, []float64{K, h}, []int{0, 1}, 2)
@@ -53,7 +64,7 @@ func TestChainCurvature(t *testing.T) {
 	c := mustChain(t, NewIsing(), 2)
 	for _, x := range [][2]float64{{0.5, 0.1}, {0.8, 0.4}, {0.3, -0.6}} {
 		K, h := x[0], x[1]
-		want := 1 + math.Cosh(h)/math.Sqrt(math.Sinh(h)*math.Sinh(h)+math.Exp(-4*K))
+		_, _, _, want := isingChainExact(K, h)
 		d := flow.NumericalDerivatives(c, []float64{K, h}, []int{0, 1}, 3)
 		got := flow.HessianCurvature(d.Hess, d.Third)
 		if math.Abs(got-want) > 1e-6*want {
@@ -222,68 +233,58 @@ func pullback(t *testing.T, name string, m interface {
 	flow.Jacobianer
 }, x []float64, deriv func(flow.Map, []float64, []int, int) flow.Derivatives) {
 	t.Helper()
-	c := struct {
-		name string
-		m    interface {
-			flow.Map
-			flow.Jacobianer
+	n := len(x)
+	idx := make([]int, n)
+	for i := range idx {
+		idx[i] = i
+	}
+	fx := deriv(m, x, idx, 2)
+	xp := make([]float64, n)
+	m.Step(xp, x)
+	fxp := deriv(m, xp, idx, 2)
+	var jac mat.Dense
+	m.JacobianTo(&jac, x)
+	q := math.Pow(m.Rescale(), -m.Dimension())
+	if pb, ok := m.(flow.PerBonder); ok && pb.PerBond() {
+		q = 1 / (m.Rescale() * bmParallel(m))
+	}
+	const h = 1e-3
+	eval := func(dx []float64) (float64, []float64) {
+		y := append([]float64(nil), x...)
+		for i := range y {
+			y[i] += dx[i]
 		}
-		x []float64
-	}{name, m, x}
-	{
-		n := len(c.x)
-		idx := make([]int, n)
-		for i := range idx {
-			idx[i] = i
-		}
-		fx := deriv(c.m, c.x, idx, 2)
-		xp := make([]float64, n)
-		c.m.Step(xp, c.x)
-		fxp := deriv(c.m, xp, idx, 2)
-		var jac mat.Dense
-		c.m.JacobianTo(&jac, c.x)
-		q := math.Pow(c.m.Rescale(), -c.m.Dimension())
-		if pb, ok := c.m.(flow.PerBonder); ok && pb.PerBond() {
-			q = 1 / (c.m.Rescale() * bmParallel(c.m))
-		}
-		const h = 1e-3
-		eval := func(dx []float64) (float64, []float64) {
-			y := append([]float64(nil), c.x...)
-			for i := range y {
-				y[i] += dx[i]
+		out := make([]float64, n)
+		g := m.Step(out, y)
+		return g, out
+	}
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			// Second derivatives of g and T by a four-point central
+			// difference (error O(h²) ~ 1e-6 relative).
+			d := func(si, sj float64) (float64, []float64) {
+				dx := make([]float64, n)
+				dx[i] += si * h
+				dx[j] += sj * h
+				return eval(dx)
 			}
-			out := make([]float64, n)
-			g := c.m.Step(out, y)
-			return g, out
-		}
-		for i := 0; i < n; i++ {
-			for j := 0; j < n; j++ {
-				// Second derivatives of g and T by a four-point central
-				// difference (error O(h²) ~ 1e-6 relative).
-				d := func(si, sj float64) (float64, []float64) {
-					dx := make([]float64, n)
-					dx[i] += si * h
-					dx[j] += sj * h
-					return eval(dx)
+			gpp, tpp := d(1, 1)
+			gpm, tpm := d(1, -1)
+			gmp, tmp := d(-1, 1)
+			gmm, tmm := d(-1, -1)
+			gij := (gpp - gpm - gmp + gmm) / (4 * h * h)
+			rhs := gij
+			var pull, grad float64
+			for k := 0; k < n; k++ {
+				tij := (tpp[k] - tpm[k] - tmp[k] + tmm[k]) / (4 * h * h)
+				grad += fxp.Grad[k] * tij
+				for l := 0; l < n; l++ {
+					pull += jac.At(k, i) * jac.At(l, j) * fxp.Hess[k][l]
 				}
-				gpp, tpp := d(1, 1)
-				gpm, tpm := d(1, -1)
-				gmp, tmp := d(-1, 1)
-				gmm, tmm := d(-1, -1)
-				gij := (gpp - gpm - gmp + gmm) / (4 * h * h)
-				rhs := gij
-				var pull, grad float64
-				for k := 0; k < n; k++ {
-					tij := (tpp[k] - tpm[k] - tmp[k] + tmm[k]) / (4 * h * h)
-					grad += fxp.Grad[k] * tij
-					for l := 0; l < n; l++ {
-						pull += jac.At(k, i) * jac.At(l, j) * fxp.Hess[k][l]
-					}
-				}
-				rhs += q * (pull + grad)
-				if !(math.Abs(fx.Hess[i][j]-rhs) <= 1e-5*(1+math.Abs(rhs))) {
-					t.Errorf("%s: d%d d%d f = %.9g, identity gives %.9g", c.name, i, j, fx.Hess[i][j], rhs)
-				}
+			}
+			rhs += q * (pull + grad)
+			if !(math.Abs(fx.Hess[i][j]-rhs) <= 1e-5*(1+math.Abs(rhs))) {
+				t.Errorf("%s: d%d d%d f = %.9g, identity gives %.9g", name, i, j, fx.Hess[i][j], rhs)
 			}
 		}
 	}
