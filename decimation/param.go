@@ -127,7 +127,10 @@ func (p Param) Parse(s string) (any, error) {
 		}
 		return nil, bad("unknown value; accepted: " + p.Range())
 	case List:
-		var out []string
+		out := []string{}
+		if s == "" {
+			return out, nil // the empty list: the scheme's default
+		}
 		for _, w := range strings.Split(s, ",") {
 			w = strings.TrimSpace(w)
 			ok := false

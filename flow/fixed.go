@@ -1205,6 +1205,9 @@ func analyse(c *chart, y []float64, fam *Family, s *FindSettings) FixedPoint {
 	if !math.IsNaN(yh) && yh <= 0 && fp.Kind != Sink {
 		fp.Notes = append(fp.Notes, "y_h <= 0: the model's symmetry-breaking couplings are irrelevant here, and exponents from y_h refer to them (an antiferromagnet's order parameter couples to a staggered field the model lacks)")
 	}
+	if !math.IsNaN(yh) && yh > d+tolH && fp.Kind != Sink {
+		fp.Notes = append(fp.Notes, fmt.Sprintf("unphysical: y_h = %.4g > d = %g, so beta = (d - y_h)/y_t < 0 and eta < 2 - d; an artefact of the approximation", yh, d))
+	}
 	if fp.ZeroTemperature && fp.Kind == Critical {
 		fp.Notes = append(fp.Notes, "zero-temperature critical point: T_c = 0")
 	}
