@@ -134,6 +134,41 @@ func Schemes() []SchemeSpec {
 			},
 		},
 		{
+			Name: "cluster",
+			Help: "finite-cluster renormalization: a cluster of blocks is enumerated exactly, each block configuration weighted by the rule, " +
+				"and the block couplings are the least-squares fit of ln W(block spins) = c + Σ x' × (block-level sums) over all block configurations; " +
+				"the fit residual is the closure error. Ising and Potts (integer q). The chain (one block and the next block's spin, half fields at the ends, rule=decimation) reproduces exact decimation",
+			Params: append([]Param{
+				{Name: "lattice", Kind: Choice, Choices: []string{"square", "triangular", "chain"}, Default: "square",
+					Help: "square (2×2 or 3×3 blocks), triangular (three-site triangles, b = √3) or chain (a check against exact decimation)"},
+				{Name: "blocks", Kind: Int, Min: 0, Max: 64, Default: "0",
+					Help: "blocks in the cluster; square 2, 4, 6, 9; triangular 2, 3, 4, 6, 7, 9; chain 1 to 64; periodic 9 or 12 (chain >= 3); 0 = 4 on the square lattice, 7 on the triangular, 1 on the chain"},
+				{Name: "boundary", Kind: Choice, Choices: []string{"free", "periodic"}, Default: "free",
+					Help: "free or periodic (a periodic cluster is at least 3 blocks wide)"},
+				{Name: "keep", Kind: List, Choices: blockCouplingNames, Default: "",
+					Help: "couplings kept (K always): K nearest, L next-nearest, M third neighbour, h field; default K,L (chain: K)"},
+			}, blockRuleParams...),
+			Build: func(m *Model, v Values) (flow.Map, error) {
+				lat, err := LookupLattice(v.Choice("lattice"))
+				if err != nil {
+					return nil, err
+				}
+				bl, err := NewBlocking(lat, v.Int("block"))
+				if err != nil {
+					return nil, err
+				}
+				keep := v.List("keep")
+				if len(keep) == 0 {
+					keep = []string{"K", "L"}
+					if lat == Linear {
+						keep = []string{"K"}
+					}
+				}
+				return NewCluster(m, bl, Rule{Kind: v.Choice("rule"), P: v.Real("p")}, keep,
+					ClusterSpec{Blocks: v.Int("blocks"), Periodic: v.Choice("boundary") == "periodic"})
+			},
+		},
+		{
 			Name: "hierarchical",
 			Help: "exact RG of the diamond-family hierarchical lattice: b bonds in series on each of m parallel branches (series, then parallel); " +
 				"dimension d = ln(b m)/ln b; (b, m = b^(d-1)) reproduces bondmove order=decimate-first exactly " +
