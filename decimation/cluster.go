@@ -436,7 +436,7 @@ func (c *Cluster) enumerate(spec ClusterSpec) error {
 	}
 	conf, bytes := c.cost(workers)
 	if conf > maxConf {
-		return &ParamError{Name: "blocks", Value: fmt.Sprint(len(c.owner)), Reason: fmt.Sprintf(
+		return &ParamError{Name: "blocks", Value: fmt.Sprint(c.nblocks), Reason: fmt.Sprintf(
 			"cluster too large: %d sites with %d states have %.3g configurations to enumerate (about %.0f s at 5 ns each on one core); accepted up to %.3g: choose fewer blocks",
 			N, q, conf, conf*5e-9, maxConf)}
 	}
@@ -709,9 +709,9 @@ func (c *Cluster) fitMatrix() error {
 }
 
 type clusterWork struct {
-	e    [][]float64
-	lnW  []float64
-	coef []float64
+	e         [][]float64
+	lnW, coef []float64
+	lnWv, cv  *mat.VecDense // views of lnW and coef
 }
 
 func (c *Cluster) work() *clusterWork {
@@ -719,6 +719,7 @@ func (c *Cluster) work() *clusterWork {
 		return w
 	}
 	w := &clusterWork{lnW: make([]float64, c.nconf), coef: make([]float64, len(c.feat)+1)}
+	w.lnWv, w.cv = mat.NewVecDense(c.nconf, w.lnW), mat.NewVecDense(len(w.coef), w.coef)
 	for _, f := range c.feat {
 		w.e = append(w.e, make([]float64, f.n))
 	}
@@ -828,8 +829,7 @@ func (c *Cluster) Step(dst, x []float64) float64 {
 	w := c.work()
 	defer c.pool.Put(w)
 	c.logWeights(w.lnW, w, x)
-	coef := mat.NewVecDense(len(w.coef), w.coef)
-	coef.MulVec(c.pinv, mat.NewVecDense(c.nconf, w.lnW))
+	w.cv.MulVec(c.pinv, w.lnWv)
 	copy(dst, w.coef[1:])
 	return w.coef[0] / c.sites
 }
@@ -840,11 +840,10 @@ func (c *Cluster) Closure(x []float64) float64 {
 	w := c.work()
 	defer c.pool.Put(w)
 	c.logWeights(w.lnW, w, x)
-	coef := mat.NewVecDense(len(w.coef), w.coef)
-	coef.MulVec(c.pinv, mat.NewVecDense(c.nconf, w.lnW))
+	w.cv.MulVec(c.pinv, w.lnWv)
 	s := 0.0
 	for mu := 0; mu < c.nconf; mu++ {
-		r := w.lnW[mu] - mat.Dot(c.design.RowView(mu), coef)
+		r := w.lnW[mu] - mat.Dot(c.design.RowView(mu), w.cv)
 		s += r * r
 	}
 	return math.Sqrt(s / float64(c.nconf))

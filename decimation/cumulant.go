@@ -411,14 +411,13 @@ func (c *Cumulant) Dimension() float64 { return 2 }
 func (c *Cumulant) Symmetry() string { return "Z2 spin flip" }
 
 type cumulantWork struct {
-	mom, out, drop []float64
+	mom, out, drop, ew []float64
 }
 
 // moments fills mom[mask] = ⟨Π_{i∈mask} s_i⟩ at block spin +1 under H0 and
 // returns ln Z0, the block's partition function at fixed block spin.
-func (c *Cumulant) moments(mom []float64, x []float64) float64 {
+func (c *Cumulant) moments(mom, ew, x []float64) float64 {
 	n := c.n
-	ew := make([]float64, len(c.conf))
 	mx := math.Inf(-1)
 	for j, s := range c.conf {
 		e := 0.0
@@ -468,7 +467,7 @@ func (c *Cumulant) work() *cumulantWork {
 	if w, ok := c.pool.Get().(*cumulantWork); ok {
 		return w
 	}
-	return &cumulantWork{mom: make([]float64, 1<<c.n), out: make([]float64, c.nout), drop: make([]float64, c.ndrop)}
+	return &cumulantWork{mom: make([]float64, 1<<c.n), out: make([]float64, c.nout), drop: make([]float64, c.ndrop), ew: make([]float64, len(c.conf))}
 }
 
 // Step writes the renormalized couplings into dst and returns the constant
@@ -487,7 +486,7 @@ func (c *Cumulant) Step(dst, x []float64) float64 {
 	}
 	w := c.work()
 	defer c.pool.Put(w)
-	lnZ0 := c.moments(w.mom, x)
+	lnZ0 := c.moments(w.mom, w.ew, x)
 	c.eval(w.out, c.mono, w.mom, x)
 	for i := range dst {
 		dst[i] = w.out[i] * c.pairAvg[i]
@@ -504,7 +503,7 @@ func (c *Cumulant) Closure(x []float64) float64 {
 	}
 	w := c.work()
 	defer c.pool.Put(w)
-	c.moments(w.mom, x)
+	c.moments(w.mom, w.ew, x)
 	c.eval(w.drop, c.dropped, w.mom, x)
 	s := 0.0
 	for _, v := range w.drop {

@@ -98,6 +98,6 @@ before the step, so that ln Z/N = sum over n of b^(-d n) g(x_n).`,
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return usagef("%v (see '%s --help')", err, c.CommandPath())
 	})
-	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr), newCritical(stdout), newScenarios(stdout), newExplore(stdin, stdout), newThermo(stdout))
+	root.AddCommand(newList(stdout), newFixed(stdout), newTrace(stdout, stderr), newCritical(stdout), newScenarios(stdout), newExplore(stdin, stdout), newThermo(stdout), newCompare(stdout))
 	return root
 }

@@ -476,3 +476,46 @@ func closeTo(t *testing.T, e map[string]any, got, want string, tol float64) {
 		t.Errorf("%s = %v, %s = %v: want them within %g %%", got, e[got], want, e[want], 100*tol)
 	}
 }
+
+// compare --json writes one row per setting with the contract's keys, and
+// the exact row names its sources; bad settings give one message and exit
+// status 2.
+func TestCompareJSON(t *testing.T) {
+	code, out, errOut := run("compare", "--model", "potts", "--set", "q=4", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	var doc struct {
+		Rows []map[string]any `json:"rows"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	var exact map[string]any
+	for _, r := range doc.Rows {
+		for _, k := range []string{"scheme", "parameters", "K_c", "K_star", "nu", "y_t", "y_h", "eta", "exact"} {
+			if _, ok := r[k]; !ok {
+				t.Errorf("row %v lacks %s", r, k)
+			}
+		}
+		if r["exact"] == true {
+			exact = r
+		}
+	}
+	// K_c = ln 3 and nu = 2/3 for the square four-state Potts model (Potts
+	// 1952; Wu, Rev. Mod. Phys. 54, 235 (1982); Baxter 1973).
+	if exact == nil || math.Abs(exact["K_c"].(float64)-math.Log(3)) > 1e-15 || math.Abs(exact["nu"].(float64)-2.0/3) > 1e-15 ||
+		!strings.Contains(exact["source"].(string), "Wu") {
+		t.Errorf("exact row %v", exact)
+	}
+	for _, bad := range [][]string{
+		{"compare", "--set", "lattice=cubic"},
+		{"compare", "--set", "b=2"},
+		{"compare", "--model", "potts", "--set", "q=abc"},
+	} {
+		code, _, errOut := run(bad...)
+		if code != 2 || strings.Count(strings.TrimSpace(errOut), "\n") != 0 || !strings.Contains(errOut, "accepted") {
+			t.Errorf("%v: exit %d, %q", bad, code, errOut)
+		}
+	}
+}
