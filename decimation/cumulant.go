@@ -511,3 +511,16 @@ func (c *Cumulant) Closure(x []float64) float64 {
 	}
 	return math.Sqrt(s)
 }
+
+// Remainder returns ln cosh h, the free energy per site of a lone field
+// beyond the ln 2 the constants carry (|h| − ln 2 in the ordered limit):
+// the field is carried whole into the block Hamiltonian, so the constants
+// never collect its linear part (see flow.Remainderer).
+func (c *Cumulant) Remainder(x []float64) float64 {
+	i := c.keep.fieldIndex()
+	if i < 0 {
+		return 0
+	}
+	h := math.Abs(x[i])
+	return h + math.Log1p(math.Exp(-2*h)) - math.Ln2
+}

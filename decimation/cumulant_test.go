@@ -312,3 +312,33 @@ func finitePoint(fp flow.FixedPoint) bool {
 	}
 	return true
 }
+
+// The field is carried whole into the block Hamiltonian, so at first order
+// the spontaneous magnetization is the product Π_n φ(K_n) along the flow
+// (h_n = 3^n Π φ(K_j) h, weighed by 3^{-n}; Niemeijer and van Leeuwen
+// 1974 obtain thermodynamics from the same recursion). The free energy's
+// slope in h at h → 0+ must reproduce it through the remainder
+// (flow.Remainderer); in the disordered phase it must vanish.
+func TestCumulantMagnetizationIsProductOfPhi(t *testing.T) {
+	c := newTriCumulant(t, 1, "K", "h")
+	for _, K := range []float64{0.4, 0.6, 1.0} {
+		want, k := 1.0, K
+		for n := 0; n < 200; n++ {
+			phi, _ := nvlPhi(k)
+			want *= phi
+			k = 2 * k * phi * phi
+		}
+		const h = 1e-7
+		fp := flow.FreeEnergy(c, []float64{K, h})
+		f0 := flow.FreeEnergy(c, []float64{K, 0})
+		m := (fp.Value - f0.Value) / h
+		if math.Abs(m-want) > 1e-6 {
+			t.Errorf("K=%g: m = %.9f, product of phi %.9f", K, m, want)
+		}
+	}
+	fp := flow.FreeEnergy(c, []float64{0.2, 1e-7})
+	f0 := flow.FreeEnergy(c, []float64{0.2, 0})
+	if m := (fp.Value - f0.Value) / 1e-7; math.Abs(m) > 1e-6 {
+		t.Errorf("disordered K=0.2: m = %g", m)
+	}
+}

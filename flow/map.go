@@ -151,6 +151,18 @@ type PerBonder interface {
 	SitesPerBond() float64
 }
 
+// Remainderer is a map whose Hamiltonian keeps a part of the free energy
+// that the constants g never collect: a one-body term carried whole to the
+// block spins, which grows like b^{d n} along the flow into an ordered
+// sink (block-spin schemes with the field in the renormalized
+// Hamiltonian). Remainder(x) is the free energy per site of that part at x
+// in its ground-state limit (|h| for an Ising field); FreeEnergy adds
+// b^{-d n} Remainder(x_n) where its sum stops, which is what carries the
+// spontaneous magnetization.
+type Remainderer interface {
+	Remainder(x []float64) float64
+}
+
 // Names returns the couplings' names in order.
 func Names(m Map) []string {
 	cs := m.Couplings()

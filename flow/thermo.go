@@ -36,6 +36,20 @@ func FreeEnergy(m Map, x []float64) FreeEnergyResult {
 		sum = t
 	}
 	prev := math.Inf(1)
+	// The remainder b^{-d n} Remainder(x_n) (see Remainderer): it settles
+	// to a constant on the way to an ordered sink and decays elsewhere; the
+	// sum stops only once it has done either.
+	rm, hasRem := m.(Remainderer)
+	lastRem := math.NaN()
+	remainder := func(x []float64, w float64) (r float64, done bool) {
+		if !hasRem {
+			return 0, true
+		}
+		r = w * rm.Remainder(x)
+		done = math.Abs(r) <= 1e-18*math.Abs(sum) || math.Abs(r-lastRem) <= 1e-15*math.Abs(r)
+		lastRem = r
+		return r, done
+	}
 	for k := 0; k < 2000; k++ {
 		g := m.Step(next, cur)
 		if math.IsNaN(g) || math.IsInf(g, 0) {
@@ -52,19 +66,23 @@ func FreeEnergy(m Map, x []float64) FreeEnergyResult {
 		if bad {
 			return FreeEnergyResult{Value: math.NaN(), Steps: k, Flag: "the flow left the map's domain"}
 		}
+		r, remDone := remainder(next, w*q)
 		if moved <= 1e-15*(1+maxAbs(cur)) {
 			// Settled on a fixed point: the rest is a geometric series.
 			tail := w * q * g / (1 - q)
 			add(tail)
+			add(r)
 			return FreeEnergyResult{Value: sum, Err: 1e-16 * math.Abs(sum), Steps: k + 1}
 		}
-		if math.Abs(term) < 1e-18*math.Abs(sum) && math.Abs(term) <= prev {
+		if math.Abs(term) < 1e-18*math.Abs(sum) && math.Abs(term) <= prev && remDone {
+			add(r)
 			return FreeEnergyResult{Value: sum, Err: 2 * math.Abs(term), Steps: k + 1}
 		}
 		prev = math.Abs(term)
 		w *= q
 		cur, next = next, cur
 		if w == 0 {
+			add(r)
 			return FreeEnergyResult{Value: sum, Err: 0, Steps: k + 1}
 		}
 	}
