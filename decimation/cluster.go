@@ -831,6 +831,9 @@ func (c *Cluster) Step(dst, x []float64) float64 {
 	c.logWeights(w.lnW, w, x)
 	w.cv.MulVec(c.pinv, w.lnWv)
 	copy(dst, w.coef[1:])
+	if i := c.keep.fieldIndex(); i >= 0 && x[i] == 0 {
+		dst[i] = 0 // the weights are symmetric: h′ = 0 but for rounding
+	}
 	return w.coef[0] / c.sites
 }
 

@@ -5,6 +5,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"scalewalk/flow"
 )
 
 func mustCluster(t testing.TB, m *Model, lat *Lattice, block int, rule Rule, keep []string, spec ClusterSpec) *Cluster {
@@ -241,5 +243,25 @@ func TestClusterBadSettings(t *testing.T) {
 	}
 	if _, err := Build("potts", "cumulant", nil); err == nil || !strings.Contains(err.Error(), "Ising model only") {
 		t.Errorf("potts cumulant: %v", err)
+	}
+}
+
+// In the ordered phase the free 2 × 2-block cluster's least-squares fit
+// drives a flow in a field into a strongly coupled region where its
+// closure error is of the order of the couplings, and the free energy
+// stops being convex in h there; the field responses must then be refused
+// with a flag rather than printed (ln Z is convex: common knowledge). At
+// h = 0 the free energy stays available.
+func TestClusterOrderedFieldFlagged(t *testing.T) {
+	c := mustCluster(t, NewIsing(), Square, 0, Rule{Kind: "majority"}, []string{"K", "L", "h"}, ClusterSpec{})
+	if f := flow.FreeEnergy(c, []float64{0.6, 0, 0}); f.Flag != "" || math.IsNaN(f.Value) {
+		t.Errorf("ordered, h = 0: %+v", f)
+	}
+	p := flow.Thermo(c, []float64{0.6, 0, 0}, nil)
+	if !math.IsNaN(p.M0) || !math.IsNaN(p.Chi) || len(p.Flags) == 0 {
+		t.Errorf("ordered: m0 = %g, chi = %g, flags %q; want both refused", p.M0, p.Chi, p.Flags)
+	}
+	if f := flow.FreeEnergy(c, []float64{0.3, 0, 1e-3}); f.Flag != "" {
+		t.Errorf("disordered, h = 1e-3: %+v", f)
 	}
 }

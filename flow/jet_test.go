@@ -81,3 +81,18 @@ func TestJetIdentities(t *testing.T) {
 		t.Error("four variables accepted")
 	}
 }
+
+// ln Z is convex in the couplings (common knowledge: its Hessian is a
+// covariance matrix), so negative responses are refused with a flag.
+func TestDropUnphysical(t *testing.T) {
+	p := ThermoValues{F: 1, C: -0.2, Chi: -1, M: 0.3, M0: -0.1, Metric: [][]float64{{-1, 0}, {0, 1}}, Det: -1, R: 2}
+	p.dropUnphysical()
+	if !math.IsNaN(p.C) || !math.IsNaN(p.Chi) || !math.IsNaN(p.M) || !math.IsNaN(p.M0) || p.Metric != nil || !math.IsNaN(p.R) || len(p.Flags) != 4 {
+		t.Errorf("%+v", p)
+	}
+	q := ThermoValues{F: 1, C: 0.2, Chi: 1, M0: 0.5, Metric: [][]float64{{1, 0}, {0, 1}}}
+	q.dropUnphysical()
+	if q.C != 0.2 || q.Chi != 1 || q.M0 != 0.5 || q.Metric == nil || len(q.Flags) != 0 {
+		t.Errorf("%+v", q)
+	}
+}

@@ -40,6 +40,17 @@ func FreeEnergy(m Map, x []float64) FreeEnergyResult {
 	// to a constant on the way to an ordered sink and decays elsewhere; the
 	// sum stops only once it has done either.
 	rm, hasRem := m.(Remainderer)
+	// Symmetry-breaking one-body couplings: their weighted size
+	// b^{-d n}|h_n| must not grow along the flow, or the field's share of
+	// the free energy diverges (a scheme whose field eigenvalue at the
+	// ordered sink exceeds b^d).
+	var fields []int
+	for i, c := range m.Couplings() {
+		if c.Role.OneBody() && !c.Symmetric {
+			fields = append(fields, i)
+		}
+	}
+	growing, lastField := 0, 0.0
 	lastRem := math.NaN()
 	remainder := func(x []float64, w float64) (r float64, done bool) {
 		if !hasRem {
@@ -66,6 +77,21 @@ func FreeEnergy(m Map, x []float64) FreeEnergyResult {
 		if bad {
 			return FreeEnergyResult{Value: math.NaN(), Steps: k, Flag: "the flow left the map's domain"}
 		}
+		if len(fields) > 0 && !hasRem {
+			a := 0.0
+			for _, i := range fields {
+				a = math.Max(a, w*q*math.Abs(next[i]))
+			}
+			if a > 1.01*lastField && a > 1e-6*(1+math.Abs(sum)) {
+				growing++
+			} else {
+				growing = 0
+			}
+			lastField = a
+			if growing >= 12 {
+				return FreeEnergyResult{Value: math.NaN(), Steps: k, Flag: flagFieldGrows}
+			}
+		}
 		r, remDone := remainder(next, w*q)
 		if moved <= 1e-15*(1+maxAbs(cur)) {
 			// Settled on a fixed point: the rest is a geometric series.
@@ -88,6 +114,8 @@ func FreeEnergy(m Map, x []float64) FreeEnergyResult {
 	}
 	return FreeEnergyResult{Value: math.NaN(), Steps: 2000, Flag: "the sum did not converge in 2000 steps"}
 }
+
+const flagFieldGrows = "the field grows faster than b^d along the flow (the scheme's field eigenvalue at the ordered sink exceeds b^d), so its share of the free energy diverges: responses to the field are not available here"
 
 // Derivatives holds ln Z/N and its derivatives in a set of couplings.
 type Derivatives struct {
@@ -496,6 +524,7 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 			p.Flags = append(p.Flags, fmt.Sprintf("internal error: %v", r))
 		}
 	}()
+	defer p.dropUnphysical()
 	cs := m.Couplings()
 	perSite := 1.0
 	if pb, ok := m.(PerBonder); ok && pb.PerBond() {
@@ -503,7 +532,7 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 	}
 	ok := func(d Derivatives) bool { return d.Err <= 1e-5*(1+maxAbsMatrix(d.Hess)) }
 	flag := func(what string, d Derivatives) {
-		p.Flags = append(p.Flags, fmt.Sprintf("%s: derivatives unreliable (error estimate %.2g): on a phase boundary, or where the scheme makes a response diverge (bond moving: the field at the disordered sink)", what, d.Err))
+		p.Flags = append(p.Flags, fmt.Sprintf("%s: derivatives unreliable (error estimate %.2g): on a phase boundary, or where the scheme makes a response diverge (bond moving and block spins: a field relevant at the disordered sink makes the higher field derivatives diverge)", what, d.Err))
 	}
 	// The energy and specific heat: derivatives over the couplings that
 	// are not zero (the ray on which they all scale as 1/T).
@@ -663,6 +692,36 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 		p.R = r
 	}
 	return p
+}
+
+// dropUnphysical removes what no free energy can give: ln Z is convex in
+// the couplings, so the specific heat, the susceptibility and the
+// diagonal of the metric are not negative, and the response to a field
+// h -> 0+ is not negative. An approximate scheme can break this where its
+// projection fails (a block-spin fit far from its fixed point); the value
+// is then NaN with a flag.
+func (p *ThermoValues) dropUnphysical() {
+	const why = "unphysical here (ln Z must be convex): an artefact of the scheme's approximation at these couplings"
+	tol := 1e-9 * (1 + math.Abs(p.F))
+	if p.C < -tol {
+		p.Flags = append(p.Flags, fmt.Sprintf("specific heat %.3g < 0: %s", p.C, why))
+		p.C = math.NaN()
+	}
+	if p.Chi < -tol {
+		p.Flags = append(p.Flags, fmt.Sprintf("susceptibility %.3g < 0: %s", p.Chi, why))
+		p.Chi, p.M = math.NaN(), math.NaN()
+	}
+	if p.M0 < -tol {
+		p.Flags = append(p.Flags, fmt.Sprintf("spontaneous magnetization %.3g < 0 for h -> 0+: %s", p.M0, why))
+		p.M0 = math.NaN()
+	}
+	for a := range p.Metric {
+		if p.Metric[a][a] < -tol {
+			p.Flags = append(p.Flags, fmt.Sprintf("metric: diagonal entry %.3g < 0: %s", p.Metric[a][a], why))
+			p.Metric, p.Det, p.R = nil, math.NaN(), math.NaN()
+			break
+		}
+	}
 }
 
 // onlyField reports whether every symmetry-breaking coupling of x other
