@@ -130,6 +130,7 @@ func Schemes() []SchemeSpec {
 						keep = []string{"K", "L", "M", "h"}
 					}
 				}
+				v["keep"], v["block"] = keep, bl.Size() // report the resolved defaults
 				return NewCumulant(m, bl, Rule{Kind: v.Choice("rule"), P: v.Real("p")}, v.Int("order"), keep)
 			},
 		},
@@ -164,6 +165,10 @@ func Schemes() []SchemeSpec {
 						keep = []string{"K"}
 					}
 				}
+				if v.Int("blocks") == 0 {
+					v["blocks"] = DefaultClusterBlocks(lat)
+				}
+				v["keep"], v["block"] = keep, bl.Size() // report the resolved defaults
 				return NewCluster(m, bl, Rule{Kind: v.Choice("rule"), P: v.Real("p")}, keep,
 					ClusterSpec{Blocks: v.Int("blocks"), Periodic: v.Choice("boundary") == "periodic"})
 			},
