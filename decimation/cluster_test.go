@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"scalewalk/flow"
+	"scalewalk/flow/flowtest"
 )
 
 func mustCluster(t testing.TB, m *Model, lat *Lattice, block int, rule Rule, keep []string, spec ClusterSpec) *Cluster {
@@ -263,5 +264,37 @@ func TestClusterOrderedFieldFlagged(t *testing.T) {
 	}
 	if f := flow.FreeEnergy(c, []float64{0.3, 0, 1e-3}); f.Flag != "" {
 		t.Errorf("disordered, h = 1e-3: %+v", f)
+	}
+}
+
+// The map contract (flowtest.CheckMap) for both block-spin engines,
+// including concurrent use by the fixed-point search (run under -race in
+// CI when available).
+func TestBlockSpinMapContract(t *testing.T) {
+	bl, _ := NewBlocking(Triangular, 3)
+	cu, err := NewCumulant(NewIsing(), bl, Rule{Kind: "majority"}, 2, []string{"K", "L", "M", "h"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := flowtest.CheckMap(cu, [][]float64{{0.3, 0.01, -0.02, 0.1}, {-1, 0, 0, 2}, {5, 1, 1, -3}}, 0); err != nil {
+		t.Error("cumulant:", err)
+	}
+	cl := mustCluster(t, mustPotts(t, 3), Square, 0, Rule{Kind: "kadanoff", P: 2}, []string{"K", "h"}, ClusterSpec{Blocks: 2})
+	if err := flowtest.CheckMap(cl, [][]float64{{0.9, 0.1}, {-2, 0}, {30, -40}}, 0); err != nil {
+		t.Error("cluster:", err)
+	}
+	done := make(chan []float64, 8)
+	for i := 0; i < 8; i++ {
+		go func() {
+			d := make([]float64, 2)
+			cl.Step(d, []float64{0.9, 0.1})
+			done <- d
+		}()
+	}
+	first := <-done
+	for i := 1; i < 8; i++ {
+		if d := <-done; d[0] != first[0] || d[1] != first[1] {
+			t.Errorf("concurrent steps differ: %v %v", d, first)
+		}
 	}
 }
