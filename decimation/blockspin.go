@@ -121,14 +121,7 @@ func (r Rule) weights(dst []float64, s []int, q int) {
 	case "decimation":
 		dst[s[0]] = 1
 	case "majority":
-		var cnt [MaxStates]int
-		best := 0
-		for _, v := range s {
-			cnt[v]++
-			if cnt[v] > best {
-				best = cnt[v]
-			}
-		}
+		cnt, best := stateCounts(s)
 		n := 0
 		for m := 0; m < q; m++ {
 			if cnt[m] == best {
@@ -141,14 +134,7 @@ func (r Rule) weights(dst []float64, s []int, q int) {
 			}
 		}
 	case "kadanoff":
-		var cnt [MaxStates]int
-		best := 0
-		for _, v := range s {
-			cnt[v]++
-			if cnt[v] > best {
-				best = cnt[v]
-			}
-		}
+		cnt, best := stateCounts(s)
 		sum := 0.0
 		for m := 0; m < q; m++ {
 			dst[m] = math.Exp(2 * r.P * float64(cnt[m]-best))
@@ -160,6 +146,44 @@ func (r Rule) weights(dst []float64, s []int, q int) {
 	default:
 		panic("decimation: unknown block rule " + r.Kind)
 	}
+}
+
+// stateCounts returns how many sites are in each state and the largest
+// count.
+func stateCounts(s []int) (cnt [MaxStates]int, best int) {
+	for _, v := range s {
+		cnt[v]++
+		best = max(best, cnt[v])
+	}
+	return cnt, best
+}
+
+// blockStepInput checks a block-spin step's lengths (a programming error
+// panics) and writes NaN into dst when x is not finite, reporting whether
+// the step can go on.
+func blockStepInput(engine string, dst, x []float64, n int) bool {
+	if len(dst) != n || len(x) != n {
+		panic(fmt.Sprintf("decimation: %s step with len(dst) = %d, len(x) = %d, want %d", engine, len(dst), len(x), n))
+	}
+	for _, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			for i := range dst {
+				dst[i] = math.NaN()
+			}
+			return false
+		}
+	}
+	return true
+}
+
+// blockingFrom resolves the lattice and block parameters of a block-spin
+// scheme.
+func blockingFrom(v Values) (*Blocking, error) {
+	lat, err := LookupLattice(v.Choice("lattice"))
+	if err != nil {
+		return nil, err
+	}
+	return NewBlocking(lat, v.Int("block"))
 }
 
 // String describes the rule in words.

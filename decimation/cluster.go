@@ -815,16 +815,8 @@ func (c *Cluster) Entries() int { return len(c.wt) }
 // constant per site: the fitted constant shared over the cluster's sites
 // (an end site of the chain check counts half).
 func (c *Cluster) Step(dst, x []float64) float64 {
-	if len(dst) != len(c.cs) || len(x) != len(c.cs) {
-		panic(fmt.Sprintf("decimation: cluster step with len(dst) = %d, len(x) = %d, want %d", len(dst), len(x), len(c.cs)))
-	}
-	for _, v := range x {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			for i := range dst {
-				dst[i] = math.NaN()
-			}
-			return math.NaN()
-		}
+	if !blockStepInput("cluster", dst, x, len(c.cs)) {
+		return math.NaN()
 	}
 	w := c.work()
 	defer c.pool.Put(w)

@@ -473,16 +473,8 @@ func (c *Cumulant) work() *cumulantWork {
 // Step writes the renormalized couplings into dst and returns the constant
 // per site, (ln Z0 + the constant of the cumulants) / (sites per block).
 func (c *Cumulant) Step(dst, x []float64) float64 {
-	if len(dst) != len(c.cs) || len(x) != len(c.cs) {
-		panic(fmt.Sprintf("decimation: cumulant step with len(dst) = %d, len(x) = %d, want %d", len(dst), len(x), len(c.cs)))
-	}
-	for _, v := range x {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			for i := range dst {
-				dst[i] = math.NaN()
-			}
-			return math.NaN()
-		}
+	if !blockStepInput("cumulant", dst, x, len(c.cs)) {
+		return math.NaN()
 	}
 	w := c.work()
 	defer c.pool.Put(w)

@@ -115,11 +115,7 @@ func Schemes() []SchemeSpec {
 					Help: "couplings kept (K always): K nearest, L next-nearest, M third neighbour, h field; default K,h at order 1 and K,L,M,h at order 2"},
 			}, blockRuleParams...),
 			Build: func(m *Model, v Values) (flow.Map, error) {
-				lat, err := LookupLattice(v.Choice("lattice"))
-				if err != nil {
-					return nil, err
-				}
-				bl, err := NewBlocking(lat, v.Int("block"))
+				bl, err := blockingFrom(v)
 				if err != nil {
 					return nil, err
 				}
@@ -150,23 +146,19 @@ func Schemes() []SchemeSpec {
 					Help: "couplings kept (K always): K nearest, L next-nearest, M third neighbour, h field; default K,L (chain: K)"},
 			}, blockRuleParams...),
 			Build: func(m *Model, v Values) (flow.Map, error) {
-				lat, err := LookupLattice(v.Choice("lattice"))
-				if err != nil {
-					return nil, err
-				}
-				bl, err := NewBlocking(lat, v.Int("block"))
+				bl, err := blockingFrom(v)
 				if err != nil {
 					return nil, err
 				}
 				keep := v.List("keep")
 				if len(keep) == 0 {
 					keep = []string{"K", "L"}
-					if lat == Linear {
+					if bl.Lattice == Linear {
 						keep = []string{"K"}
 					}
 				}
 				if v.Int("blocks") == 0 {
-					v["blocks"] = DefaultClusterBlocks(lat)
+					v["blocks"] = DefaultClusterBlocks(bl.Lattice)
 				}
 				v["keep"], v["block"] = keep, bl.Size() // report the resolved defaults
 				return NewCluster(m, bl, Rule{Kind: v.Choice("rule"), P: v.Real("p")}, keep,

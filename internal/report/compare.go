@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"sort"
 	"strings"
 	"text/tabwriter"
 
@@ -107,16 +106,11 @@ func settingsText(p map[string]string) string {
 	if len(p) == 0 {
 		return "-"
 	}
-	var keys []string
-	for k := range p {
-		keys = append(keys, k)
+	a := map[string]any{}
+	for k, v := range p {
+		a[k] = v
 	}
-	sort.Strings(keys)
-	var parts []string
-	for _, k := range keys {
-		parts = append(parts, k+"="+p[k])
-	}
-	return strings.Join(parts, " ")
+	return strings.ReplaceAll(paramString(a), ", ", " ")
 }
 
 func cell(v float64, digits int) string {
