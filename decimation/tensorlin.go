@@ -119,6 +119,10 @@ func orthonormalize(y []float64, m, l int, rng *rand.Rand) {
 	}
 }
 
+// powerIterations sharpen the randomized range: the error of the leading
+// vectors falls like (s_{l+1}/s_k)^(2·powerIterations+1).
+const powerIterations = 2
+
 // truncSVD returns the k leading singular triplets of the m×n row-major
 // matrix a: u (m×k), s (k, descending), vt (k×n). Small matrices get a full
 // decomposition; larger ones the randomized range finder with oversampling
@@ -129,7 +133,7 @@ func truncSVD(a []float64, m, n, k int) (u, s, vt []float64) {
 		return fullSVD(a, m, n, k)
 	}
 	rng := rand.New(rand.NewPCG(0x5ca1e, 0xa1c))
-	l := min(m, n, 2*k+8)
+	l := min(m, n, k+max(8, k/2))
 	omega := make([]float64, n*l)
 	for i := range omega {
 		omega[i] = rng.NormFloat64()
@@ -138,7 +142,7 @@ func truncSVD(a []float64, m, n, k int) (u, s, vt []float64) {
 	z := make([]float64, n*l)
 	gemm(false, false, m, l, n, a, omega, y) // y = a·Ω
 	orthonormalize(y, m, l, rng)
-	for it := 0; it < 3; it++ {
+	for it := 0; it < powerIterations; it++ {
 		gemm(true, false, n, l, m, a, y, z) // z = aᵀ·y
 		orthonormalize(z, n, l, rng)
 		gemm(false, false, m, l, n, a, z, y) // y = a·z
@@ -186,7 +190,7 @@ func topEigen(a []float64, n, k int) (vals, v []float64) {
 	l := n
 	if n > max(2*k, 48) {
 		rng := rand.New(rand.NewPCG(0xe16e, 0x5eed))
-		l = min(n, 2*k+8)
+		l = min(n, k+max(8, k/2))
 		q = make([]float64, n*l)
 		for i := range q {
 			q[i] = rng.NormFloat64()
@@ -194,7 +198,7 @@ func topEigen(a []float64, n, k int) (vals, v []float64) {
 		y := make([]float64, n*l)
 		gemm(false, false, n, l, n, a, q, y)
 		orthonormalize(y, n, l, rng)
-		for it := 0; it < 3; it++ {
+		for it := 0; it < powerIterations; it++ {
 			gemm(false, false, n, l, n, a, y, q)
 			orthonormalize(q, n, l, rng)
 			y, q = q, y
