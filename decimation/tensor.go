@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"sort"
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
@@ -244,18 +245,18 @@ func (T *tensor4) trace() float64 {
 // whose legs point north-west, north-east, south-east and south-west (the
 // new l, u, r, d).
 func trgStep(T *tensor4, chi int) *tensor4 {
-	D := T.d[0]
-	D2 := D * D
+	A, B := T.d[0], T.d[1] // l, r and u, d dimensions
+	AB := A * B
 	// Split A: (l u) × (r d).
-	u1, s1, v1 := truncSVD(T.v, D2, D2, chi)
+	u1, s1, v1 := truncSVD(T.v, AB, AB, chi)
 	k1 := len(s1)
 	// Split B: (u r) × (d l).
 	tb := make([]float64, len(T.v))
-	permute(tb, T.v, []int{D, D, D, D}, []int{1, 2, 3, 0})
-	u2, s2, v2 := truncSVD(tb, D2, D2, chi)
+	permute(tb, T.v, T.d[:], []int{1, 2, 3, 0})
+	u2, s2, v2 := truncSVD(tb, AB, AB, chi)
 	k2 := len(s2)
 	// F1[(l u), m] = U √s, F3[m, (r d)] = √s Vᵀ; likewise F2, F4.
-	for i := 0; i < D2; i++ {
+	for i := 0; i < AB; i++ {
 		for m := 0; m < k1; m++ {
 			u1[i*k1+m] *= math.Sqrt(s1[m])
 		}
@@ -264,37 +265,37 @@ func trgStep(T *tensor4, chi int) *tensor4 {
 		}
 	}
 	for m := 0; m < k1; m++ {
-		for i := 0; i < D2; i++ {
-			v1[m*D2+i] *= math.Sqrt(s1[m])
+		for i := 0; i < AB; i++ {
+			v1[m*AB+i] *= math.Sqrt(s1[m])
 		}
 	}
 	for m := 0; m < k2; m++ {
-		for i := 0; i < D2; i++ {
-			v2[m*D2+i] *= math.Sqrt(s2[m])
+		for i := 0; i < AB; i++ {
+			v2[m*AB+i] *= math.Sqrt(s2[m])
 		}
 	}
 	// F3[α, i, j] (i = r, j = d) → [(α j), i].
-	f3 := make([]float64, k1*D2)
-	permute(f3, v1, []int{k1, D, D}, []int{0, 2, 1})
+	f3 := make([]float64, k1*AB)
+	permute(f3, v1, []int{k1, A, B}, []int{0, 2, 1})
 	// F4[β, k, i] (k = d, i = l) → [i, (β k)].
-	f4 := make([]float64, k2*D2)
-	permute(f4, v2, []int{k2, D, D}, []int{2, 0, 1})
-	// A[(α j), (β k)] = Σ_i F3 F4.
-	A := make([]float64, k1*D*k2*D)
-	gemm(false, false, k1*D, k2*D, D, f3, f4, A)
+	f4 := make([]float64, k2*AB)
+	permute(f4, v2, []int{k2, B, A}, []int{2, 0, 1})
+	// P[(α j), (β k)] = Σ_i F3 F4.
+	P := make([]float64, k1*B*k2*B)
+	gemm(false, false, k1*B, k2*B, A, f3, f4, P)
 	// F2[j, p, δ] (j = u, p = r) → [(j δ), p]; F1[p, (k γ)] as is.
-	f2 := make([]float64, D2*k2)
-	permute(f2, u2, []int{D, D, k2}, []int{0, 2, 1})
-	// B[(j δ), (k γ)] = Σ_p F2 F1.
-	B := make([]float64, D*k2*D*k1)
-	gemm(false, false, D*k2, D*k1, D, f2, u1, B)
-	// T′[α, β, γ, δ] = Σ_{j,k} A[α, j, β, k] B[j, δ, k, γ].
-	ap := make([]float64, len(A))
-	permute(ap, A, []int{k1, D, k2, D}, []int{0, 2, 1, 3}) // [α, β, j, k]
-	bp := make([]float64, len(B))
-	permute(bp, B, []int{D, k2, D, k1}, []int{0, 2, 3, 1}) // [j, k, γ, δ]
+	f2 := make([]float64, AB*k2)
+	permute(f2, u2, []int{B, A, k2}, []int{0, 2, 1})
+	// Q[(j δ), (k γ)] = Σ_p F2 F1.
+	Q := make([]float64, B*k2*B*k1)
+	gemm(false, false, B*k2, B*k1, A, f2, u1, Q)
+	// T′[α, β, γ, δ] = Σ_{j,k} P[α, j, β, k] Q[j, δ, k, γ].
+	pp := make([]float64, len(P))
+	permute(pp, P, []int{k1, B, k2, B}, []int{0, 2, 1, 3}) // [α, β, j, k]
+	qp := make([]float64, len(Q))
+	permute(qp, Q, []int{B, k2, B, k1}, []int{0, 2, 3, 1}) // [j, k, γ, δ]
 	out := &tensor4{d: [4]int{k1, k2, k1, k2}, v: make([]float64, k1*k2*k1*k2)}
-	gemm(false, false, k1*k2, k1*k2, D2, ap, bp, out.v)
+	gemm(false, false, k1*k2, k1*k2, B*B, pp, qp, out.v)
 	return out
 }
 
@@ -359,6 +360,9 @@ func hotrgStep(T *tensor4, chi int) *tensor4 {
 	U := ul
 	if trace(MR)-sum(vr) < trace(ML)-sum(vl) {
 		U = ur
+		k = len(vr)
+	} else {
+		k = len(vl)
 	}
 	// X[(k r1 d), (l2 l′)] = Σ_{l1} T[l1,k,r1,d] U[(l1 l2), l′].
 	tp := make([]float64, len(T.v))
@@ -471,13 +475,15 @@ func (t *TensorRG) Degeneracies(ctx context.Context, x []float64, steps int) ([]
 
 // Phase decides the phase x flows to from the degeneracy X of the coarse
 // tensor, read at the first (square) step where X comes within Tol of an
-// integer: 1 is the disordered phase, n ≥ 2 an ordered phase with n
+// integer and moved by less than Tol since the previous square step: 1 is
+// the disordered phase, n ≥ 2 an ordered phase with n
 // states. The decision is taken at once, since a degenerate ordered tensor
 // is unstable to round-off symmetry breaking and drifts back to X = 1 after
 // some fifty steps. A flow still undecided after MaxPhaseSteps steps is
 // undecided (Index −1).
 func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
-	ph := flow.Phase{Index: -1, Label: "undecided"}
+	ph := flow.Phase{Index: -1, Label: "undecided", Undecided: true}
+	prev := math.NaN()
 	_, err := t.run(ctx, x, t.MaxPhaseSteps, func(n int, T *tensor4, _ float64) bool {
 		ph.Steps = n
 		if !t.squareStep(n) {
@@ -485,8 +491,10 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 		}
 		X := T.degeneracy()
 		r := math.Round(X)
-		if r >= 1 && math.Abs(X-r) < t.Tol {
-			ph.Index = int(r)
+		// Within Tol of an integer and settled there (a flow passing an
+		// integer on its way elsewhere moves by more than Tol per step).
+		if r >= 1 && math.Abs(X-r) < t.Tol && math.Abs(X-prev) < t.Tol {
+			ph.Index, ph.Undecided = int(r), false
 			if r == 1 {
 				ph.Label = "disordered (X -> 1)"
 			} else {
@@ -494,10 +502,11 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 			}
 			return false
 		}
+		prev = X
 		return true
 	})
 	if err != nil {
-		return flow.Phase{Index: -1, Label: "undecided: " + err.Error()}
+		return flow.Phase{Index: -1, Label: "undecided: " + err.Error(), Undecided: true}
 	}
 	return ph
 }
@@ -509,4 +518,115 @@ func (t *TensorRG) String() string {
 
 func sitesText(steps int) string {
 	return fmt.Sprintf("2^%d", steps)
+}
+
+// Spectrum is what the transfer matrices of a coarse tensor say about the
+// critical point it approximates (Gu and Wen 2009): with M_L the transfer
+// matrix of a cylinder L tensors around and one tensor long, and λ_0(L) >
+// λ_1(L) ≥ … its eigenvalues, conformal invariance gives
+//
+//	ln λ_0(L) = f L + π c / (6 L),    ln(λ_0/λ_i) = 2π x_i / L,
+//
+// so c = (4/π)(2 ln λ_0(1) − ln λ_0(2)) and x_i = (1/π) ln(λ_0(2)/λ_i(2)).
+type Spectrum struct {
+	Step       int       // coarse-graining steps taken
+	C          float64   // central charge
+	Dimensions []float64 // scaling dimensions x_i > 0, lowest first
+}
+
+// spectrum reads the central charge and the lowest n scaling dimensions
+// from a square coarse tensor.
+func (T *tensor4) spectrum(n int) (c float64, dims []float64, ok bool) {
+	D, E := T.d[0], T.d[1]
+	if T.d[2] != D || T.d[3] != E {
+		return math.NaN(), nil, false
+	}
+	// M1[u, d] = Σ_l T[l,u,l,d].
+	m1 := mat.NewDense(E, E, nil)
+	for l := 0; l < D; l++ {
+		for u := 0; u < E; u++ {
+			for d := 0; d < E; d++ {
+				m1.Set(u, d, m1.At(u, d)+T.at(l, u, l, d))
+			}
+		}
+	}
+	// M2[(u1 u2), (d1 d2)] = Σ_{l,m} T[l,u1,m,d1] T[m,u2,l,d2]:
+	// A[(u1 d1), (l m)] = T[l,u1,m,d1]; B[(l m), (u2 d2)] = T[m,u2,l,d2].
+	a := make([]float64, len(T.v))
+	permute(a, T.v, []int{D, E, D, E}, []int{1, 3, 0, 2}) // [u1, d1, l, m]
+	b := make([]float64, len(T.v))
+	permute(b, T.v, []int{D, E, D, E}, []int{2, 0, 1, 3}) // [l(=r leg of T), m(=l leg), u2, d2]
+	prod := make([]float64, E*E*E*E)
+	gemm(false, false, E*E, E*E, D*D, a, b, prod) // [u1 d1, u2 d2]
+	m2v := make([]float64, len(prod))
+	permute(m2v, prod, []int{E, E, E, E}, []int{0, 2, 1, 3}) // [u1 u2, d1 d2]
+	m2 := mat.NewDense(E*E, E*E, m2v)
+	ev1, ok1 := leadingEigen(m1)
+	ev2, ok2 := leadingEigen(m2)
+	if !ok1 || !ok2 || ev1[0] <= 0 || ev2[0] <= 0 {
+		return math.NaN(), nil, false
+	}
+	c = 4 / math.Pi * (2*math.Log(ev1[0]) - math.Log(ev2[0]))
+	for _, e := range ev2[1:] {
+		if e <= 0 || len(dims) == n {
+			break
+		}
+		dims = append(dims, math.Log(ev2[0]/e)/math.Pi)
+	}
+	return c, dims, true
+}
+
+// leadingEigen returns the moduli of the eigenvalues of a, largest first.
+func leadingEigen(a *mat.Dense) ([]float64, bool) {
+	var e mat.Eigen
+	if !e.Factorize(a, mat.EigenNone) {
+		return nil, false
+	}
+	vals := e.Values(nil)
+	out := make([]float64, len(vals))
+	for i, v := range vals {
+		out[i] = cmplxAbs(v)
+	}
+	sort.Sort(sort.Reverse(sort.Float64Slice(out)))
+	return out, true
+}
+
+func cmplxAbs(z complex128) float64 { return math.Hypot(real(z), imag(z)) }
+
+// Spectra coarse-grains from x and reads the spectrum after every square
+// step from 1 to steps.
+func (t *TensorRG) Spectra(ctx context.Context, x []float64, steps, n int) ([]Spectrum, error) {
+	var out []Spectrum
+	_, err := t.run(ctx, x, steps, func(k int, T *tensor4, _ float64) bool {
+		if k == 0 || !t.squareStep(k) {
+			return true
+		}
+		if c, dims, ok := T.spectrum(n); ok {
+			out = append(out, Spectrum{Step: k, C: c, Dimensions: dims})
+		}
+		return true
+	})
+	return out, err
+}
+
+// Stationary returns the spectrum at the step where it changes least from
+// the previous square step (the coarse tensor nearest its fixed point;
+// plain TRG drifts away from it after about ten steps), judged on c and
+// the two lowest dimensions, skipping the first minSkip entries.
+func Stationary(sp []Spectrum, minSkip int) (Spectrum, bool) {
+	best, bi := math.Inf(1), -1
+	for i := max(1, minSkip); i < len(sp); i++ {
+		a, b := sp[i], sp[i-1]
+		if len(a.Dimensions) < 2 || len(b.Dimensions) < 2 {
+			continue
+		}
+		d := math.Abs(a.C-b.C) + math.Abs(a.Dimensions[0]-b.Dimensions[0]) + math.Abs(a.Dimensions[1]-b.Dimensions[1])
+		if d < best {
+			best, bi = d, i
+		}
+	}
+	if bi < 0 {
+		return Spectrum{}, false
+	}
+	return sp[bi], true
 }

@@ -7,6 +7,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/integrate/quad"
+
+	"scalewalk/flow"
 )
 
 // longTests reports whether the long checks run (SCALEWALK_LONG=1).
@@ -218,4 +220,117 @@ func isingTorusLnZ(L, M int, K, h float64) float64 {
 		z += math.Exp(e - mx)
 	}
 	return mx + math.Log(z)
+}
+
+// criticalK bisects the nearest-neighbour coupling between lo and hi on
+// the phase the coarse-graining flow reaches.
+func criticalK(t testing.TB, tr *TensorRG, lo, hi, tol float64) float64 {
+	t.Helper()
+	path := flow.Path{Name: "K", From: lo, To: hi, Samples: 3, Point: func(dst []float64, v float64) {
+		for i := range dst {
+			dst[i] = 0
+		}
+		dst[0] = v
+	}}
+	xs, err := flow.Crossings(context.Background(), tr, path, &flow.CrossingSettings{Tol: tol})
+	if err != nil || len(xs) != 1 {
+		t.Fatalf("crossings %v, %v", xs, err)
+	}
+	return xs[0].Value
+}
+
+// The square Ising K_c = ln(1 + √2)/2 (Kramers and Wannier, Phys. Rev. 60,
+// 252 (1941)) by bisection on the phase, HOTRG at chi = 16, to a relative
+// error <= 1e-4; TRG at chi = 16 reported.
+func TestTensorCriticalIsing(t *testing.T) {
+	exact := math.Log(1+math.Sqrt2) / 2
+	// A bracket of ±1 % around the exact value and a tolerance of 1e-5
+	// keep the test short; the command line bisects from a whole path.
+	got := criticalK(t, mustTensor(t, NewIsing(), "hotrg", 16), 0.435, 0.445, 1e-5)
+	if rel := math.Abs(got-exact) / exact; rel > 1e-4 {
+		t.Errorf("HOTRG chi=16: K_c = %.7f, exact %.7f, relative error %.2g", got, exact, rel)
+	} else {
+		t.Logf("HOTRG chi=16: K_c = %.7f, relative error %.2g", got, rel)
+	}
+}
+
+// The three-state Potts K_c = ln(1 + √3) on the square lattice (Potts
+// 1952; F. Y. Wu, Rev. Mod. Phys. 54, 235 (1982)): relative error <= 5e-4
+// at chi = 16 and <= 1e-4 at chi = 24, HOTRG; behind the long-test flag
+// (a HOTRG step at chi = 16 costs about 0.1 s here, more than 0.05 s).
+func TestTensorCriticalPotts(t *testing.T) {
+	if !longTests() {
+		t.Skip("long test: SCALEWALK_LONG=1")
+	}
+	exact := math.Log(1 + math.Sqrt(3))
+	cases := []struct {
+		chi  int
+		tol  float64
+		long bool
+	}{{16, 5e-4, false}, {24, 1e-4, true}}
+	for _, c := range cases {
+		if c.long && !longTests() {
+			continue
+		}
+		got := criticalK(t, mustTensor(t, mustPotts(t, 3), "hotrg", c.chi), 0.99, 1.02, 1e-6)
+		if rel := math.Abs(got-exact) / exact; rel > c.tol {
+			t.Errorf("chi=%d: K_c = %.7f, exact %.7f, relative error %.2g", c.chi, got, exact, rel)
+		} else {
+			t.Logf("chi=%d: K_c = %.7f, relative error %.2g", c.chi, got, rel)
+		}
+	}
+}
+
+// An ordered start stays ordered even when followed for 80 steps: the
+// decision is taken where X first reaches the ordered degeneracy, before
+// round-off symmetry breaking drifts the tensor back to X = 1.
+func TestTensorOrderedStaysOrdered(t *testing.T) {
+	tr := mustTensor(t, NewIsing(), "trg", 8)
+	tr.MaxPhaseSteps = 80
+	xs, err := tr.Degeneracies(context.Background(), []float64{0.6, 0}, 80)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ph := tr.Phase(context.Background(), []float64{0.6, 0})
+	if ph.Index != 2 {
+		t.Errorf("K = 0.6: phase %+v, want ordered with 2 states", ph)
+	}
+	drift := false
+	for _, x := range xs[40:] {
+		drift = drift || math.Abs(x-1) < 0.05
+	}
+	t.Logf("X at steps 10, 40, 79: %.4f %.4f %.4f (drift back to 1 seen: %v)", xs[10], xs[40], xs[79], drift)
+	if p := tr.Phase(context.Background(), []float64{0.3, 0}); p.Index != 1 {
+		t.Errorf("K = 0.3: phase %+v, want disordered", p)
+	}
+}
+
+// At the exact K_c the central charge 1/2 and the scaling dimensions 1/8
+// and 1 within 1 % at chi = 16 (J. L. Cardy 1986, from memory; Gu and Wen,
+// PRB 80, 155131 (2009)); chi = 24 behind the long-test flag.
+func TestTensorCentralChargeIsing(t *testing.T) {
+	kc := math.Log(1+math.Sqrt2) / 2
+	for _, c := range []struct {
+		method string
+		chi    int
+		long   bool
+	}{{"trg", 16, false}, {"hotrg", 16, false}, {"hotrg", 24, true}} {
+		if c.long && !longTests() {
+			continue
+		}
+		tr := mustTensor(t, NewIsing(), c.method, c.chi)
+		sp, err := tr.Spectra(context.Background(), []float64{kc, 0}, 20, 4)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s, ok := Stationary(sp, 2)
+		if !ok {
+			t.Fatalf("%s: no stationary spectrum", c.method)
+		}
+		if math.Abs(s.C-0.5) > 0.005 || math.Abs(s.Dimensions[0]-0.125) > 0.00125 || math.Abs(s.Dimensions[1]-1) > 0.01 {
+			t.Errorf("%s chi=%d step %d: c = %.5f, x = %.5f", c.method, c.chi, s.Step, s.C, s.Dimensions)
+		} else {
+			t.Logf("%s chi=%d step %d: c = %.5f, x = %.5f", c.method, c.chi, s.Step, s.C, s.Dimensions)
+		}
+	}
 }

@@ -119,16 +119,59 @@ func orthonormalize(y []float64, m, l int, rng *rand.Rand) {
 	}
 }
 
+// multipletCut returns how many of the descending values v (at most k)
+// to keep without cutting through a degenerate multiplet: a truncation
+// inside one would break the model's symmetry at random. It keeps k when
+// the whole multiplet at the cut would leave fewer than k/2 states.
+func multipletCut(v []float64, k int) int {
+	if k >= len(v) || k == 0 {
+		return min(k, len(v))
+	}
+	const rel = 1e-7
+	c := k
+	for c > 0 && math.Abs(v[c]-v[c-1]) <= rel*math.Abs(v[0]) {
+		c--
+	}
+	if c < k/2 {
+		return k
+	}
+	return c
+}
+
 // powerIterations sharpen the randomized range: the error of the leading
 // vectors falls like (s_{l+1}/s_k)^(2·powerIterations+1).
 const powerIterations = 2
+
+// eigenIterations is the subspace iteration count of topEigen: the cut of
+// a HOTRG isometry must fall between whole multiplets, or the truncation
+// breaks the model's symmetry, so its subspace is converged further.
+const eigenIterations = 8
 
 // truncSVD returns the k leading singular triplets of the m×n row-major
 // matrix a: u (m×k), s (k, descending), vt (k×n). Small matrices get a full
 // decomposition; larger ones the randomized range finder with oversampling
 // and power iterations. The seed is fixed: results are reproducible.
 func truncSVD(a []float64, m, n, k int) (u, s, vt []float64) {
-	k = min(k, m, n)
+	want := min(k, m, n)
+	k = min(k+1, m, n) // one more, to see whether the cut splits a multiplet
+	u, s, vt = truncSVDk(a, m, n, k)
+	c := multipletCut(s, want)
+	return cutColumns(u, m, len(s), c), s[:c], vt[:c*n]
+}
+
+// cutColumns keeps the first c of the k columns of the m×k row-major u.
+func cutColumns(u []float64, m, k, c int) []float64 {
+	if c == k {
+		return u
+	}
+	out := make([]float64, m*c)
+	for i := 0; i < m; i++ {
+		copy(out[i*c:(i+1)*c], u[i*k:i*k+c])
+	}
+	return out
+}
+
+func truncSVDk(a []float64, m, n, k int) (u, s, vt []float64) {
 	if min(m, n) <= max(2*k, 48) {
 		return fullSVD(a, m, n, k)
 	}
@@ -185,7 +228,14 @@ func fullSVD(a []float64, m, n, k int) (u, s, vt []float64) {
 // semi-definite n×n matrix a: the values descending and the vectors as the
 // columns of v (n×k); the randomized range finder above for large n.
 func topEigen(a []float64, n, k int) (vals, v []float64) {
-	k = min(k, n)
+	want := min(k, n)
+	k = min(k+1, n)
+	vals, v = topEigenK(a, n, k)
+	c := multipletCut(vals, want)
+	return vals[:c], cutColumns(v, n, len(vals), c)
+}
+
+func topEigenK(a []float64, n, k int) (vals, v []float64) {
 	var q []float64
 	l := n
 	if n > max(2*k, 48) {
@@ -198,7 +248,7 @@ func topEigen(a []float64, n, k int) (vals, v []float64) {
 		y := make([]float64, n*l)
 		gemm(false, false, n, l, n, a, q, y)
 		orthonormalize(y, n, l, rng)
-		for it := 0; it < powerIterations; it++ {
+		for it := 0; it < eigenIterations; it++ {
 			gemm(false, false, n, l, n, a, y, q)
 			orthonormalize(q, n, l, rng)
 			y, q = q, y

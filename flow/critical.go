@@ -22,6 +22,9 @@ type Phase struct {
 	// Breaking lists the symmetry-breaking couplings at infinity, e.g.
 	// "h=+inf": a field-dominated phase.
 	Breaking string
+	// Undecided marks an outcome the engine could not decide within its
+	// step limit; bisection stops there.
+	Undecided bool
 }
 
 // Same reports whether two outcomes are the same phase: the same label; or
@@ -325,6 +328,9 @@ type Crossing struct {
 	Controlling int        // index of the controlling fixed point, −1 if none
 	Kind        TransitionKind
 	Refined     bool // refined with the linear scaling field of the controlling point
+	// Undecided: the bisection stopped at a flow the engine could not
+	// decide; the transition lies in Bracket, wider than the tolerance.
+	Undecided bool
 }
 
 // CrossingSettings controls [Crossings]. A zero field takes its default.
@@ -369,7 +375,8 @@ func Crossings(ctx context.Context, ph Phaser, path Path, s *CrossingSettings) (
 		}
 		a, b := vals[i-1], vals[i]
 		pa, pb := phs[i-1], phs[i]
-		for math.Abs(b-a) > tol {
+		undecided := pa.Undecided || pb.Undecided
+		for math.Abs(b-a) > tol && !undecided {
 			mid := (a + b) / 2
 			if mid == a || mid == b {
 				break
@@ -377,6 +384,10 @@ func Crossings(ctx context.Context, ph Phaser, path Path, s *CrossingSettings) (
 			pm := probe(mid)
 			if ctx.Err() != nil {
 				return out, ErrCanceled
+			}
+			if pm.Undecided {
+				undecided = true
+				break
 			}
 			if pm.Same(pa) {
 				a, pa = mid, pm
@@ -388,7 +399,7 @@ func Crossings(ctx context.Context, ph Phaser, path Path, s *CrossingSettings) (
 			a, b = b, a
 			pa, pb = pb, pa
 		}
-		c := Crossing{Value: (a + b) / 2, Bracket: [2]float64{a, b}, Below: pa, Above: pb, Controlling: -1}
+		c := Crossing{Value: (a + b) / 2, Bracket: [2]float64{a, b}, Below: pa, Above: pb, Controlling: -1, Undecided: undecided}
 		if sp, ok := ph.(*SinkPhases); ok && len(sp.points) > 0 {
 			xa := make([]float64, len(sp.points[0].X))
 			xb := make([]float64, len(sp.points[0].X))
