@@ -35,6 +35,7 @@ type Cluster struct {
 	q        int
 	periodic bool
 	nblocks  int     // block spins in the cluster
+	asked    int     // blocks asked for (the chain check adds an end spin)
 	nsites   int     // sites in the cluster
 	sites    float64 // sites the constant is shared over (chain ends count half)
 
@@ -182,7 +183,7 @@ func NewCluster(m *Model, bl *Blocking, rule Rule, keep []string, spec ClusterSp
 		return nil, err
 	}
 	q := int(m.States())
-	c := &Cluster{bl: bl, rule: rule, keep: ks, q: q, periodic: spec.Periodic}
+	c := &Cluster{bl: bl, rule: rule, keep: ks, q: q, periodic: spec.Periodic, asked: n}
 	fieldAt := 0
 	for i, cp := range m.Couplings() {
 		if cp.Name == "h" {
@@ -195,6 +196,9 @@ func NewCluster(m *Model, bl *Blocking, rule Rule, keep []string, spec ClusterSp
 	}
 	c.cs = ks.couplings(bl.Lattice, word+" between sites and between block spins alike", m.Couplings(), fieldAt)
 	if err := c.geometry(m, blocks, m1, m2); err != nil {
+		return nil, err
+	}
+	if err := c.checkAliases(); err != nil {
 		return nil, err
 	}
 	if err := c.enumerate(spec); err != nil {
@@ -429,21 +433,21 @@ func (c *Cluster) enumerate(spec ClusterSpec) error {
 	workers := runtime.GOMAXPROCS(0)
 	maxConf, maxBytes := spec.MaxConfigs, spec.MaxBytes
 	if maxConf == 0 {
-		maxConf = 1 << 31
+		maxConf = 1 << 32
 	}
 	if maxBytes == 0 {
 		maxBytes = 1 << 30
 	}
 	conf, bytes := c.cost(workers)
 	if conf > maxConf {
-		return &ParamError{Name: "blocks", Value: fmt.Sprint(c.nblocks), Reason: fmt.Sprintf(
-			"cluster too large: %d sites with %d states have %.3g configurations to enumerate (about %.0f s at 5 ns each on one core); accepted up to %.3g: choose fewer blocks",
+		return &ParamError{Name: "blocks", Value: fmt.Sprint(c.asked), Reason: fmt.Sprintf(
+			"cluster too large: %d sites with %d states have %.3g configurations to enumerate (about %.3g s at 5 ns each on one core); accepted up to %.3g: choose fewer blocks",
 			N, q, conf, conf*5e-9, maxConf)}
 	}
 	if bytes > maxBytes {
-		return &ParamError{Name: "keep", Value: fmt.Sprint(len(c.feat)), Reason: fmt.Sprintf(
-			"cluster too large for memory: the count tables need about %.0f MB (%d block configurations × the values of %d interaction sums × %d cores); accepted up to %.0f MB: choose fewer blocks or fewer kept couplings",
-			bytes/1e6, c.nconf, nf, workers, maxBytes/1e6)}
+		return &ParamError{Name: "blocks", Value: fmt.Sprint(c.asked), Reason: fmt.Sprintf(
+			"cluster too large for memory with keep=%s: the count tables need about %.0f MB (%d block configurations × the values of %d interaction sums × %d cores); accepted up to %.0f MB: choose fewer blocks or fewer kept couplings",
+			c.keepText(), bytes/1e6, c.nconf, nf, workers, maxBytes/1e6)}
 	}
 	F := 1
 	stride := make([]int, nf)
@@ -634,6 +638,47 @@ func (c *Cluster) enumerate(spec ClusterSpec) error {
 			c.wt = append(c.wt, w)
 		}
 		c.start[mu+1] = len(c.wt)
+	}
+	return nil
+}
+
+func (c *Cluster) keepText() string {
+	var n []string
+	for _, f := range c.feat {
+		n = append(n, f.name)
+	}
+	return strings.Join(n, ",")
+}
+
+// checkAliases refuses, on a periodic cluster, a kept pair coupling whose
+// pairs are joined more than once around the torus or coincide with the
+// pairs of another shell: its sum would then not be the coupling's.
+func (c *Cluster) checkAliases() error {
+	if !c.periodic {
+		return nil
+	}
+	owner := map[[2]int]string{}
+	for _, f := range c.feat {
+		if f.siteW != nil {
+			continue
+		}
+		for _, list := range [][][2]int{f.pairs, f.blockPairs} {
+			seen := map[[2]int]bool{}
+			for _, p := range list {
+				k := [2]int{min(p[0], p[1]), max(p[0], p[1])}
+				if seen[k] {
+					return &ParamError{Name: "keep", Value: f.name, Reason: fmt.Sprintf("on this %d-block periodic cluster the pairs of coupling %s are joined more than once around the torus; choose a wider cluster or drop %s", c.asked, f.name, f.name)}
+				}
+				seen[k] = true
+			}
+		}
+		for _, p := range f.blockPairs {
+			k := [2]int{min(p[0], p[1]), max(p[0], p[1])}
+			if o, ok := owner[k]; ok && o != f.name {
+				return &ParamError{Name: "keep", Value: f.name, Reason: fmt.Sprintf("on this %d-block periodic cluster the block pairs of %s coincide with those of %s around the torus; choose a wider cluster or drop %s", c.asked, f.name, o, f.name)}
+			}
+			owner[k] = f.name
+		}
 	}
 	return nil
 }
@@ -843,3 +888,7 @@ func (c *Cluster) Closure(x []float64) float64 {
 	}
 	return math.Sqrt(s / float64(c.nconf))
 }
+
+// FieldBound returns 1: the Ising spin and the Potts indicator are at
+// most 1 in magnitude per site (see flow.FieldBounder).
+func (c *Cluster) FieldBound(int) float64 { return 1 }

@@ -172,9 +172,9 @@ func TestClusterTableMatchesEnumeration(t *testing.T) {
 func TestClusterSymmetries(t *testing.T) {
 	c := mustCluster(t, NewIsing(), Square, 0, Rule{Kind: "majority"}, []string{"K", "L", "h"}, ClusterSpec{})
 	a, b := make([]float64, 3), make([]float64, 3)
-	c.Step(a, []float64{0.4, 0.05, 0})
-	if math.Abs(a[2]) > 1e-13 {
-		t.Errorf("h' = %g at h = 0", a[2])
+	c.Step(a, []float64{0.4, 0.05, 1e-9})
+	if rel := a[2]/1e-9 - 1; math.Abs(a[2]) > 1e-8 || a[2] <= 0 {
+		t.Errorf("h' = %g at h = 1e-9 (ratio %g): the field must stay small and keep its sign", a[2], rel)
 	}
 	ga := c.Step(a, []float64{0.4, 0.05, 0.13})
 	gb := c.Step(b, []float64{0.4, 0.05, -0.13})
@@ -230,6 +230,8 @@ func TestClusterBadSettings(t *testing.T) {
 		{"ising", "at least 3 blocks wide", map[string]string{"boundary": "periodic", "blocks": "4"}},
 		{"ising", "no pair of blocks at that distance", map[string]string{"keep": "K,M", "blocks": "4"}},
 		{"ising", "too large", map[string]string{"blocks": "9"}},
+		{"ising", "coincide with those of K", map[string]string{"lattice": "triangular", "blocks": "9", "boundary": "periodic", "keep": "K,M"}},
+		{"potts", "too large", map[string]string{"q": "4", "blocks": "6"}},
 		{"ising", "does not tile the square lattice", map[string]string{"block": "3"}},
 		{"ising", "does not tile the triangular lattice", map[string]string{"lattice": "triangular", "block": "4"}},
 		{"ising", "must be kept", map[string]string{"keep": "L,h"}},

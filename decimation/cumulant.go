@@ -78,6 +78,9 @@ func NewCumulant(m *Model, bl *Blocking, rule Rule, order int, keep []string) (*
 	if bl.Lattice.Dim != 2 {
 		return nil, &ParamError{Name: "lattice", Value: bl.Lattice.Name, Reason: "the cumulant expansion works on two-dimensional lattices; accepted: triangular, square"}
 	}
+	if bl.Size() > 4 {
+		return nil, &ParamError{Name: "block", Value: fmt.Sprint(bl.Size()), Reason: "the cumulant expansion here takes three-site triangles or 2×2 blocks; accepted: block=3 (triangular) or 4 (square), or 0 for the default"}
+	}
 	if order != 1 && order != 2 {
 		return nil, &ParamError{Name: "order", Value: fmt.Sprint(order), Reason: "accepted: 1 or 2"}
 	}
@@ -516,3 +519,7 @@ func (c *Cumulant) Remainder(x []float64) float64 {
 	h := math.Abs(x[i])
 	return h + math.Log1p(math.Exp(-2*h)) - math.Ln2
 }
+
+// FieldBound returns 1: the Ising spin and the Potts indicator are at
+// most 1 in magnitude per site (see flow.FieldBounder).
+func (c *Cumulant) FieldBound(int) float64 { return 1 }

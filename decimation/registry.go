@@ -127,7 +127,7 @@ func Schemes() []SchemeSpec {
 					}
 				}
 				v["keep"], v["block"] = keep, bl.Size() // report the resolved defaults
-				return NewCumulant(m, bl, Rule{Kind: v.Choice("rule"), P: v.Real("p")}, v.Int("order"), keep)
+				return NewCumulant(m, bl, ruleFrom(v, bl), v.Int("order"), keep)
 			},
 		},
 		{
@@ -139,7 +139,7 @@ func Schemes() []SchemeSpec {
 				{Name: "lattice", Kind: Choice, Choices: []string{"square", "triangular", "chain"}, Default: "square",
 					Help: "square (2×2 or 3×3 blocks), triangular (three-site triangles, b = √3) or chain (a check against exact decimation)"},
 				{Name: "blocks", Kind: Int, Min: 0, Max: 64, Default: "0",
-					Help: "blocks in the cluster; square 2, 4, 6, 9; triangular 2, 3, 4, 6, 7, 9; chain 1 to 64; periodic 9 or 12 (chain >= 3); 0 = 4 on the square lattice, 7 on the triangular, 1 on the chain"},
+					Help: "blocks in the cluster; square 2, 4, 6, 9; triangular 2, 3, 4, 6, 7, 9; chain 1 to 64; periodic 9 or 12 blocks (chain >= 3), of which the triangular 9 (27 sites; K, with h) is the one small enough to enumerate and free of pairs joined twice; 0 = 4 on the square lattice, 7 on the triangular, 1 on the chain; at most 2^32 spin configurations"},
 				{Name: "boundary", Kind: Choice, Choices: []string{"free", "periodic"}, Default: "free",
 					Help: "free or periodic (a periodic cluster is at least 3 blocks wide)"},
 				{Name: "keep", Kind: List, Choices: blockCouplingNames, Default: "",
@@ -161,7 +161,7 @@ func Schemes() []SchemeSpec {
 					v["blocks"] = DefaultClusterBlocks(bl.Lattice)
 				}
 				v["keep"], v["block"] = keep, bl.Size() // report the resolved defaults
-				return NewCluster(m, bl, Rule{Kind: v.Choice("rule"), P: v.Real("p")}, keep,
+				return NewCluster(m, bl, ruleFrom(v, bl), keep,
 					ClusterSpec{Blocks: v.Int("blocks"), Periodic: v.Choice("boundary") == "periodic"})
 			},
 		},
@@ -184,10 +184,24 @@ func Schemes() []SchemeSpec {
 var blockRuleParams = []Param{
 	{Name: "block", Kind: Int, Min: 0, Max: 64, Default: "0",
 		Help: "sites per block: square 4 (2×2, b = 2) or 9 (3×3, b = 3), triangular 3 (b = √3), chain 2 to 64 (b = sites); 0 = the lattice's default (4, 3, 2)"},
-	{Name: "rule", Kind: Choice, Choices: RuleNames, Default: "majority",
-		Help: "block spin: majority (ties shared equally among the tied states), kadanoff (weight ∝ exp(2p × sites in the state); Ising: e^{p μ Σs}/2cosh(p Σs); majority as p → ∞), decimation (the block's first site)"},
+	{Name: "rule", Kind: Choice, Choices: append([]string{"auto"}, RuleNames...), Default: "auto",
+		Help: "block spin: auto (majority in two dimensions, decimation on the chain), majority (ties shared equally among the tied states), kadanoff (weight ∝ exp(2p × sites in the state); Ising: e^{p μ Σs}/2cosh(p Σs); majority as p → ∞), decimation (the block's first site)"},
 	{Name: "p", Kind: Real, Min: 0, MinOpen: true, Max: 1000, Default: "1",
 		Help: "the Kadanoff weight's parameter (rule=kadanoff only)"},
+}
+
+// ruleFrom resolves the rule parameter (auto: majority in two dimensions,
+// decimation on the chain) and records the choice for the reports.
+func ruleFrom(v Values, bl *Blocking) Rule {
+	kind := v.Choice("rule")
+	if kind == "auto" {
+		kind = "majority"
+		if bl.Lattice == Linear {
+			kind = "decimation"
+		}
+		v["rule"] = kind
+	}
+	return Rule{Kind: kind, P: v.Real("p")}
 }
 
 // LookupModel returns the model called name; the error lists the accepted

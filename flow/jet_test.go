@@ -86,13 +86,18 @@ func TestJetIdentities(t *testing.T) {
 // covariance matrix), so negative responses are refused with a flag.
 func TestDropUnphysical(t *testing.T) {
 	p := ThermoValues{F: 1, C: -0.2, Chi: -1, M: 0.3, M0: -0.1, Metric: [][]float64{{-1, 0}, {0, 1}}, Det: -1, R: 2}
-	p.dropUnphysical()
+	p.dropUnphysical(math.Inf(1))
 	if !math.IsNaN(p.C) || !math.IsNaN(p.Chi) || !math.IsNaN(p.M) || !math.IsNaN(p.M0) || p.Metric != nil || !math.IsNaN(p.R) || len(p.Flags) != 4 {
 		t.Errorf("%+v", p)
 	}
 	q := ThermoValues{F: 1, C: 0.2, Chi: 1, M0: 0.5, Metric: [][]float64{{1, 0}, {0, 1}}}
-	q.dropUnphysical()
+	q.dropUnphysical(math.Inf(1))
 	if q.C != 0.2 || q.Chi != 1 || q.M0 != 0.5 || q.Metric == nil || len(q.Flags) != 0 {
 		t.Errorf("%+v", q)
+	}
+	r := ThermoValues{F: 1, M0: 1.3, M: 0.4, Chi: 2}
+	r.dropUnphysical(1)
+	if !math.IsNaN(r.M0) || r.M != 0.4 || len(r.Flags) != 1 {
+		t.Errorf("|m0| > 1 kept: %+v", r)
 	}
 }

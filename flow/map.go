@@ -163,6 +163,13 @@ type Remainderer interface {
 	Remainder(x []float64) float64
 }
 
+// FieldBounder is a map that knows the largest magnitude, per site, of the
+// one-body term of coupling i (1 for an Ising or Potts field): no
+// magnetization can exceed it, which Thermo checks.
+type FieldBounder interface {
+	FieldBound(i int) float64
+}
+
 // Names returns the couplings' names in order.
 func Names(m Map) []string {
 	cs := m.Couplings()

@@ -524,7 +524,8 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 			p.Flags = append(p.Flags, fmt.Sprintf("internal error: %v", r))
 		}
 	}()
-	defer p.dropUnphysical()
+	bound := math.Inf(1)
+	defer func() { p.dropUnphysical(bound) }()
 	cs := m.Couplings()
 	perSite := 1.0
 	if pb, ok := m.(PerBonder); ok && pb.PerBond() {
@@ -554,6 +555,9 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 			field = i
 			break
 		}
+	}
+	if fb, ok := m.(FieldBounder); ok && field >= 0 {
+		bound = fb.FieldBound(field) * perSite
 	}
 	deriv := FreeEnergyDerivatives
 	if _, isJ := m.(Jetter); isJ {
@@ -696,11 +700,12 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 
 // dropUnphysical removes what no free energy can give: ln Z is convex in
 // the couplings, so the specific heat, the susceptibility and the
-// diagonal of the metric are not negative, and the response to a field
-// h -> 0+ is not negative. An approximate scheme can break this where its
+// diagonal of the metric are not negative, the response to a field
+// h -> 0+ is not negative, and no magnetization exceeds bound (the largest
+// one-body term per site). An approximate scheme can break this where its
 // projection fails (a block-spin fit far from its fixed point); the value
 // is then NaN with a flag.
-func (p *ThermoValues) dropUnphysical() {
+func (p *ThermoValues) dropUnphysical(bound float64) {
 	const why = "unphysical here (ln Z must be convex): an artefact of the scheme's approximation at these couplings"
 	tol := 1e-9 * (1 + math.Abs(p.F))
 	if p.C < -tol {
@@ -714,6 +719,14 @@ func (p *ThermoValues) dropUnphysical() {
 	if p.M0 < -tol {
 		p.Flags = append(p.Flags, fmt.Sprintf("spontaneous magnetization %.3g < 0 for h -> 0+: %s", p.M0, why))
 		p.M0 = math.NaN()
+	}
+	if math.Abs(p.M0) > bound*(1+1e-9) {
+		p.Flags = append(p.Flags, fmt.Sprintf("spontaneous magnetization %.4g exceeds %g, the largest possible: an artefact of the scheme's approximation at these couplings", p.M0, bound))
+		p.M0 = math.NaN()
+	}
+	if math.Abs(p.M) > bound*(1+1e-9) {
+		p.Flags = append(p.Flags, fmt.Sprintf("magnetization %.4g exceeds %g, the largest possible: an artefact of the scheme's approximation at these couplings", p.M, bound))
+		p.M, p.Chi = math.NaN(), math.NaN()
 	}
 	for a := range p.Metric {
 		if p.Metric[a][a] < -tol {

@@ -70,7 +70,7 @@ cluster (about a minute).`,
 				}
 			}
 			if spec.Lattice != "square" && spec.Lattice != "triangular" {
-				return usagef("--set lattice=%s: accepted: square, triangular", spec.Lattice)
+				return usagef("--set lattice=%s: compare knows no such lattice; accepted: square, triangular", spec.Lattice)
 			}
 			var progress func(string)
 			if isTerminal(os.Stderr) {

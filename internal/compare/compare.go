@@ -77,7 +77,7 @@ func settings(spec Spec, q float64) []setting {
 		} else {
 			out = append(out, cl("3", "K", "free"), cl("4", "K,L", "free"), cl("7", "K,L", "free"))
 			if spec.Large {
-				out = append(out, cl("9", "K,L", "periodic"))
+				out = append(out, cl("9", "K", "periodic"))
 			}
 		}
 	}
@@ -123,7 +123,7 @@ func exactRows(spec Spec, q float64) []Row {
 // ones last. progress, when not nil, is told which setting starts.
 func Rows(ctx context.Context, spec Spec, progress func(string)) ([]Row, error) {
 	if spec.Lattice != "square" && spec.Lattice != "triangular" {
-		return nil, &decimation.ParamError{Name: "lattice", Value: spec.Lattice, Reason: "accepted: square, triangular"}
+		return nil, &decimation.ParamError{Name: "lattice", Value: spec.Lattice, Reason: "unknown lattice for compare; accepted: square, triangular"}
 	}
 	ms, err := decimation.LookupModel(spec.Model)
 	if err != nil {
@@ -183,6 +183,13 @@ func run(ctx context.Context, spec Spec, s setting) ([]Row, error) {
 	}
 	for k, v := range s.set {
 		set[k] = v
+	}
+	if s.scheme == "cluster" && !spec.Large {
+		if c := clusterConfigs(spec, s.set); c > largeConfigs {
+			row.Skipped = true
+			row.Note = fmt.Sprintf("%.3g spin configurations to enumerate (about %.0f s on two cores): run compare with --large", c, c*15e-9)
+			return []Row{row}, nil
+		}
 	}
 	b, err := decimation.Build(spec.Model, s.scheme, set)
 	if err != nil {
@@ -292,6 +299,27 @@ func join(a, b string) string {
 	return a + "; " + b
 }
 
+// largeConfigs is the most spin configurations a cluster row enumerates
+// without --large (a few seconds).
+const largeConfigs = 2e8
+
+// clusterConfigs estimates q^N for a cluster setting.
+func clusterConfigs(spec Spec, set map[string]string) float64 {
+	q := 2.0
+	if v, ok := spec.ModelSet["q"]; ok {
+		fmt.Sscan(v, &q)
+	} else if spec.Model == "potts" {
+		q = 3
+	}
+	sites := 4.0
+	if set["lattice"] == "triangular" {
+		sites = 3
+	}
+	var n float64
+	fmt.Sscan(set["blocks"], &n)
+	return math.Pow(q, n*sites)
+}
+
 // fieldProbe gives y_h to a scheme run without the field: the same scheme
 // with h kept is built, and λ_h = ∂h′/∂h at the fixed point with h = 0
 // (the Jacobian is block-diagonal there, h′ being odd in h), by central
@@ -304,7 +332,8 @@ func fieldProbe(r *Row, spec Spec, set map[string]string, p flow.FixedPoint) err
 	set2["keep"] = set["keep"] + ",h"
 	b, err := decimation.Build(spec.Model, "cluster", set2)
 	if err != nil {
-		return nil // no field version (e.g. too large): y_h stays unknown
+		r.Note = join(r.Note, "y_h not available: the cluster with the field kept is refused ("+err.Error()+")")
+		return nil
 	}
 	m := b.Map
 	n := len(m.Couplings())

@@ -72,7 +72,7 @@ func CompareText(w io.Writer, model, lattice string, rows []compare.Row) error {
 		if r.Scheme != "" {
 			name += " [" + r.Scheme + "]"
 		}
-		if r.Multicritical {
+		if r.Multicritical && !r.Exact {
 			name += " (tricritical)"
 		}
 		if r.Skipped {
