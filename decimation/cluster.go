@@ -892,3 +892,15 @@ func (c *Cluster) Closure(x []float64) float64 {
 // FieldBound returns 1: the Ising spin and the Potts indicator are at
 // most 1 in magnitude per site (see flow.FieldBounder).
 func (c *Cluster) FieldBound(int) float64 { return 1 }
+
+// Cautions says what the finite cluster cannot give well.
+func (c *Cluster) Cautions() []string {
+	var out []string
+	if !c.periodic && c.bl.Lattice != Linear {
+		out = append(out, "a free-boundary cluster's constant g misses the bonds that cross its edge, so its free energy and energy are biased (for the 4-block square cluster the high-temperature energy comes out about a quarter too small); critical couplings and exponents do not use g")
+	}
+	if c.keep.field {
+		out = append(out, "in the ordered phase the least-squares fit carries the field into a strongly coupled region of its own, so responses to the field there are refused with a flag")
+	}
+	return out
+}

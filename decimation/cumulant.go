@@ -523,3 +523,12 @@ func (c *Cumulant) Remainder(x []float64) float64 {
 // FieldBound returns 1: the Ising spin and the Potts indicator are at
 // most 1 in magnitude per site (see flow.FieldBounder).
 func (c *Cumulant) FieldBound(int) float64 { return 1 }
+
+// Cautions says what the truncated expansion cannot give well.
+func (c *Cumulant) Cautions() []string {
+	out := []string{"the cumulant expansion is a series in the couplings between blocks: far from its fixed point (deep in the ordered phase) its free energy and energy leave the physical bounds (an energy below the ground state), which no check here catches in general"}
+	if c.order == 1 && c.keep.field {
+		out = append(out, "at first order the field has no second cumulant: the susceptibility in the disordered phase comes out 0")
+	}
+	return out
+}

@@ -80,6 +80,7 @@ type ThermoJSON struct {
 	Conventions map[string]string `json:"conventions"`
 	Points      []ThermoPointJSON `json:"points"`
 	Effective   []EffectiveJSON   `json:"effective_exponents"`
+	Cautions    []string          `json:"cautions"`
 }
 
 func thermoConventions() map[string]string {
@@ -99,7 +100,8 @@ func thermoConventions() map[string]string {
 // Thermo builds the JSON document.
 func Thermo(d ThermoDoc) ThermoJSON {
 	names := flow.Names(d.Map)
-	j := ThermoJSON{Model: d.Meta.Model, Scheme: d.Meta.Scheme, Params: d.Meta.Params, Conventions: thermoConventions(), Points: []ThermoPointJSON{}}
+	j := ThermoJSON{Model: d.Meta.Model, Scheme: d.Meta.Scheme, Params: d.Meta.Params, Conventions: thermoConventions(), Points: []ThermoPointJSON{},
+		Cautions: append([]string{}, d.Meta.Cautions...)}
 	for _, i := range d.Metric {
 		j.Metric = append(j.Metric, names[i])
 	}
@@ -186,6 +188,9 @@ func ThermoText(w io.Writer, d ThermoDoc) error {
 	conv := thermoConventions()
 	for _, k := range []string{"free_energy", "energy", "specific_heat", "metric", "curvature"} {
 		fmt.Fprintf(&b, "# %s: %s\n", k, conv[k])
+	}
+	for _, c := range d.Meta.Cautions {
+		fmt.Fprintf(&b, "# caution: %s\n", c)
 	}
 	tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, strings.Join(thermoHeader(d), "\t")+"\t")
