@@ -22,6 +22,9 @@ type SchemeSpec struct {
 	Name, Help string
 	Params     []Param
 	Build      func(m *Model, v Values) (flow.Map, error)
+	// Tensor builds an engine without a coupling flow (tensor
+	// renormalization) in place of Build; exactly one of the two is set.
+	Tensor func(m *Model, v Values) (*TensorRG, error)
 }
 
 // MaxB is the largest rescaling factor the schemes accept.
@@ -166,6 +169,23 @@ func Schemes() []SchemeSpec {
 			},
 		},
 		{
+			Name: "tensor",
+			Help: "tensor renormalization of the square-lattice model: the partition function as a network of one four-leg tensor per site, coarse-grained with at most chi states per leg, " +
+				"by Levin–Nave TRG (trg) or HOTRG (hotrg); gives ln Z/N, the phase each point flows to (from the degeneracy X of the coarse tensor: 1 disordered, n ordered with n states), " +
+				"the critical coupling by bisection, and the central charge and scaling dimensions from the coarse tensor's transfer matrix; it has no low-dimensional flow of couplings, so no eigenvalues",
+			Params: []Param{
+				{Name: "chi", Kind: Int, Min: 2, Max: 256, Default: "16",
+					Help: "bond dimension: states kept per leg (memory and time grow as chi^4 to chi^7)"},
+				{Name: "method", Kind: Choice, Choices: []string{"trg", "hotrg"}, Default: "trg",
+					Help: "trg: Levin–Nave, one SVD split per sublattice; hotrg: higher-order, two tensors merged per step (more accurate, slower)"},
+				{Name: "steps", Kind: Int, Min: 1, Max: 200, Default: "30",
+					Help: "coarse-graining steps for the free energy; each halves the number of tensors (30 steps: 2^30 sites)"},
+			},
+			Tensor: func(m *Model, v Values) (*TensorRG, error) {
+				return NewTensorRG(m, v.Choice("method"), v.Int("chi"), v.Int("steps"))
+			},
+		},
+		{
 			Name: "hierarchical",
 			Help: "exact RG of the diamond-family hierarchical lattice: b bonds in series on each of m parallel branches (series, then parallel); " +
 				"dimension d = ln(b m)/ln b; (b, m = b^(d-1)) reproduces bondmove order=decimate-first exactly " +
@@ -233,7 +253,8 @@ func LookupScheme(name string) (SchemeSpec, error) {
 // Built is a model and a scheme resolved from their names and parameter
 // values.
 type Built struct {
-	Map                       flow.Map
+	Map                       flow.Map  // nil for the tensor engine
+	Tensor                    *TensorRG // the tensor engine, or nil
 	Model                     *Model
 	ModelSpec                 ModelSpec
 	SchemeSpec                SchemeSpec
@@ -287,6 +308,13 @@ func Build(model, scheme string, set map[string]string) (*Built, error) {
 	mod, err := ms.New(mv)
 	if err != nil {
 		return nil, fmt.Errorf("model %s: %w", ms.Name, err)
+	}
+	if ss.Tensor != nil {
+		t, err := ss.Tensor(mod, sv)
+		if err != nil {
+			return nil, fmt.Errorf("scheme %s: %w", ss.Name, err)
+		}
+		return &Built{Tensor: t, Model: mod, ModelSpec: ms, SchemeSpec: ss, ModelValues: mv, SchemeValues: sv}, nil
 	}
 	m, err := ss.Build(mod, sv)
 	if err != nil {

@@ -40,6 +40,8 @@ type TensorRG struct {
 	// distance of X from an integer that decides it (default 0.02).
 	MaxPhaseSteps int
 	Tol           float64
+	// OnPhase, when set, is told each phase decision (for progress).
+	OnPhase func(x []float64, ph flow.Phase)
 }
 
 // TensorMemory estimates the peak bytes of one coarse-graining step.
@@ -506,7 +508,10 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 		return true
 	})
 	if err != nil {
-		return flow.Phase{Index: -1, Label: "undecided: " + err.Error(), Undecided: true}
+		ph = flow.Phase{Index: -1, Label: "undecided: " + err.Error(), Undecided: true}
+	}
+	if t.OnPhase != nil {
+		t.OnPhase(x, ph)
 	}
 	return ph
 }
@@ -629,4 +634,122 @@ func Stationary(sp []Spectrum, minSkip int) (Spectrum, bool) {
 		return Spectrum{}, false
 	}
 	return sp[bi], true
+}
+
+// TensorCritical is a transition located by the tensor engine, with what
+// the coarse tensor at it says about the critical point.
+type TensorCritical struct {
+	Crossing flow.Crossing
+	Kind     flow.TransitionKind // from the plateau of X
+	Plateau  float64             // the value X holds at the transition (NaN if none)
+	Spectrum Spectrum            // at the step where it is stationary
+	Have     bool                // Spectrum was read
+	// XSpin is the lowest scaling dimension; XEnergy the lowest one that
+	// is not XSpin plus a whole number (its descendants) and below 2
+	// (dimension-2 states are not used to classify).
+	XSpin, XEnergy float64
+	Nu, Eta        float64 // 1/(2 − XEnergy), 2 XSpin
+}
+
+// TransitionKind reads the kind of a transition at x from the degeneracy
+// X of the coarse tensor: at a continuous transition X holds a non-integer
+// plateau for several square steps; at a first-order one it goes straight
+// to an integer (a phase, or the coexistence of several).
+func (t *TensorRG) TransitionKind(ctx context.Context, x []float64) (flow.TransitionKind, float64, error) {
+	xs, err := t.Degeneracies(ctx, x, 24)
+	if err != nil {
+		return flow.UnknownKind, math.NaN(), err
+	}
+	var sq []float64
+	for _, v := range xs[1:] {
+		if !math.IsNaN(v) {
+			sq = append(sq, v)
+		}
+	}
+	run, best, sum, bestSum := 0, 0, 0.0, 0.0
+	for i := 1; i < len(sq); i++ {
+		r := math.Round(sq[i])
+		if math.Abs(sq[i]-sq[i-1]) < 0.05 && math.Abs(sq[i]-r) > 0.05 {
+			run++
+			sum += sq[i]
+			if run > best {
+				best, bestSum = run, sum
+			}
+		} else {
+			run, sum = 0, 0
+		}
+	}
+	if best >= 3 {
+		return flow.Continuous, bestSum / float64(best), nil
+	}
+	return flow.FirstOrder, math.NaN(), nil
+}
+
+// Critical locates every transition on the path by bisection on the phase
+// and, for each continuous one, reads the central charge and the scaling
+// dimensions at the step where the spectrum is stationary.
+func (t *TensorRG) Critical(ctx context.Context, path flow.Path, tol float64) ([]TensorCritical, error) {
+	xs, err := flow.Crossings(ctx, t, path, &flow.CrossingSettings{Tol: tol})
+	if err != nil {
+		return nil, err
+	}
+	var out []TensorCritical
+	x := make([]float64, len(t.cs))
+	for _, c := range xs {
+		tc := TensorCritical{Crossing: c, Plateau: math.NaN(), XSpin: math.NaN(), XEnergy: math.NaN(), Nu: math.NaN(), Eta: math.NaN()}
+		path.Point(x, c.Value)
+		kind, plateau, err := t.TransitionKind(ctx, x)
+		if err != nil {
+			return nil, err
+		}
+		tc.Kind, tc.Plateau = kind, plateau
+		tc.Crossing.Kind = kind
+		if kind == flow.Continuous {
+			sp, err := t.Spectra(ctx, x, 24, 8)
+			if err != nil {
+				return nil, err
+			}
+			if s, ok := Stationary(sp, 2); ok {
+				tc.Spectrum, tc.Have = s, true
+				tc.XSpin, tc.XEnergy = classifyDimensions(s.Dimensions)
+				tc.Nu = 1 / (2 - tc.XEnergy)
+				tc.Eta = 2 * tc.XSpin
+			}
+		}
+		out = append(out, tc)
+	}
+	return out, nil
+}
+
+// classifyDimensions takes the lowest dimension as the spin's and the
+// lowest one that is neither it plus a whole number nor 2 or more as the
+// energy's.
+func classifyDimensions(dims []float64) (spin, energy float64) {
+	spin, energy = math.NaN(), math.NaN()
+	if len(dims) == 0 {
+		return
+	}
+	spin = dims[0]
+	for _, d := range dims[1:] {
+		if d >= 1.9 {
+			break
+		}
+		desc := false
+		for n := 0.0; n <= 2; n++ {
+			desc = desc || math.Abs(d-(spin+n)) < 0.06
+		}
+		if !desc {
+			energy = d
+			break
+		}
+	}
+	return
+}
+
+// Cautions says what the tensor engine gives and what it does not.
+func (t *TensorRG) Cautions() []string {
+	return []string{
+		fmt.Sprintf("tensor renormalization truncated to chi = %d: the free energy and critical coupling carry a truncation error that shrinks as chi grows (repeat at a larger chi to see its trend); free energy over 2^%d sites (%d steps), phases decided within %d steps", t.Chi, t.Steps, t.Steps, t.MaxPhaseSteps),
+		"no flow of couplings: eigenvalues and controlling fixed points do not exist here; exponents come from the scaling dimensions of the coarse tensor's transfer matrix",
+	}
 }

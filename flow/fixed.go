@@ -83,7 +83,7 @@ type FixedPoint struct {
 }
 
 // Place describes where the point is, e.g. "K=+inf, h=0".
-func (p FixedPoint) Place(m Map) string {
+func (p FixedPoint) Place(m Coupled) string {
 	var parts []string
 	for i, c := range m.Couplings() {
 		v := "0"

@@ -104,6 +104,13 @@ type Coupling struct {
 // TwoSite reports whether the coupling couples two or more sites.
 func (c Coupling) TwoSite() bool { return !c.Role.OneBody() }
 
+// Coupled is anything with a coupling vector: a Map, or an engine without
+// a low-dimensional flow (tensor renormalization) whose starting points
+// are still couplings.
+type Coupled interface {
+	Couplings() []Coupling
+}
+
 // Map is one RG step of a real-space scheme.
 //
 // Step writes x′ = R(x) into dst and returns the constant g(x) per site of the
@@ -171,7 +178,7 @@ type FieldBounder interface {
 }
 
 // Names returns the couplings' names in order.
-func Names(m Map) []string {
+func Names(m Coupled) []string {
 	cs := m.Couplings()
 	out := make([]string, len(cs))
 	for i, c := range cs {
@@ -181,7 +188,7 @@ func Names(m Map) []string {
 }
 
 // Index returns the index of the coupling called name, or −1.
-func Index(m Map, name string) int {
+func Index(m Coupled, name string) int {
 	for i, c := range m.Couplings() {
 		if c.Name == name {
 			return i

@@ -781,7 +781,7 @@ func (d Derivatives) restrict(union, idx []int, order int) Derivatives {
 
 // ExchangeIndex returns the coupling that sets the temperature scale, the
 // first symmetric exchange coupling, or −1.
-func ExchangeIndex(m Map) int {
+func ExchangeIndex(m Coupled) int {
 	for i, c := range m.Couplings() {
 		if c.Role == Exchange && c.Symmetric {
 			return i

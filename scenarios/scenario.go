@@ -417,6 +417,9 @@ func (s *Scenario) engine(set map[string]string) (flow.Map, *Engine, error) {
 	if err != nil {
 		return nil, nil, s.paramErr("model", err)
 	}
+	if ss.Build == nil {
+		return nil, nil, &Error{File: s.Source, Msg: fmt.Sprintf("scheme %s has no flow of couplings to study in a scenario; accepted here: the map schemes (chain, bondmove, cumulant, cluster, hierarchical); run it with --scheme %s on the command line", ss.Name, ss.Name)}
+	}
 	m, err := ss.Build(model, sv)
 	if err != nil {
 		return nil, nil, s.paramErr("scheme", err)

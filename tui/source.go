@@ -71,6 +71,9 @@ func build(o Options) (*source, error) {
 		if err != nil {
 			return nil, err
 		}
+		if bt.Tensor != nil {
+			return nil, fmt.Errorf("scheme %s has no flow of couplings for the flow view; run 'scalewalk critical --scheme %s' or 'scalewalk fixed --scheme %s'", o.Scheme, o.Scheme, o.Scheme)
+		}
 		ms, ss := bt.ModelSpec, bt.SchemeSpec
 		s.m, s.model, s.scheme = bt.Map, ms.Name, ss.Name
 		s.engine = true

@@ -76,6 +76,9 @@ func runFixed(ctx context.Context, o *options, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
+	if b.tensor != nil {
+		return runFixedTensor(ctx, o, b, stdout)
+	}
 	var res *flow.FindResult
 	err = safely(func() error {
 		var e error
@@ -131,6 +134,9 @@ produces NaN or Inf.`,
 			b, err := o.build()
 			if err != nil {
 				return err
+			}
+			if b.tensor != nil {
+				return usagef("trace follows a flow of couplings; the tensor scheme has none: use critical, fixed or thermo with --scheme tensor")
 			}
 			x, err := parsePoint("--from", from, b.m, b.absent)
 			if err != nil {

@@ -85,7 +85,7 @@ func parseAt(s string) (map[string]float64, error) {
 
 // exchangeIndex returns the coupling that sets the temperature scale: the
 // first exchange coupling.
-func exchangeIndex(m flow.Map) int {
+func exchangeIndex(m flow.Coupled) int {
 	for i, c := range m.Couplings() {
 		if c.Role == flow.Exchange && c.Symmetric {
 			return i
@@ -98,7 +98,7 @@ func exchangeIndex(m flow.Map) int {
 // coupling scales as 1/T, the exchange being 1/T and the --at values
 // energies in units of the exchange; on a coupling path the held couplings
 // are fixed dimensionless values.
-func pathFor(m flow.Map, along rangeSpec, at map[string]float64, samples int) (flow.Path, bool, error) {
+func pathFor(m flow.Coupled, along rangeSpec, at map[string]float64, samples int) (flow.Path, bool, error) {
 	cs := m.Couplings()
 	names := flow.Names(m)
 	base := make([]float64, len(cs))
@@ -197,7 +197,14 @@ where the transition changes kind along that line (a tricritical point).
 two-dimensional grid of couplings (held couplings from --at).
 
 Every critical coupling or temperature is printed with the scheme's order
-where it has one (bond moving: move-first or decimate-first).`,
+where it has one (bond moving: move-first or decimate-first).
+
+With --scheme tensor the phase of each point is read from the degeneracy X
+of the coarse tensor (1 disordered, n ordered with n states), decided at the
+first square step where X settles within 0.02 of a whole number (at most 60
+steps; a flow still undecided ends the bisection and the bracket is given);
+the defaults there are --samples 8 and --tol 1e-6, there is no controlling
+fixed point, and the kind comes from the plateau X holds at the transition.`,
 		Example: `  scalewalk critical --model ising --scheme bondmove --set d=2 --along T=1:5
   scalewalk critical --model spin1 --scheme bondmove --set d=2 --set b=2 --along T=0.1:3 --at K=0,D=1.5
   scalewalk critical --model spin1 --scheme bondmove --along J=0.1:3 --at D=0.5 --json
@@ -232,6 +239,25 @@ where it has one (bond moving: move-first or decimate-first).`,
 			atv, err := parseAt(at)
 			if err != nil {
 				return err
+			}
+			if b.tensor != nil {
+				if grid != "" || sweep != "" {
+					return usagef("--grid and --sweep follow a flow of couplings; the tensor scheme has none: give --along")
+				}
+				if along == "" {
+					return usagef("critical needs a path: --along NAME=FROM:TO[:N] (NAME a coupling or T)")
+				}
+				ar, err := parseRange("--along", along, false)
+				if err != nil {
+					return err
+				}
+				if !cmd.Flags().Changed("samples") {
+					samples = 8
+				}
+				if !cmd.Flags().Changed("tol") {
+					tol = 1e-6
+				}
+				return runCriticalTensor(cmd.Context(), o, b, ar, atv, samples, tol, stdout)
 			}
 			if grid != "" {
 				return runGrid(cmd.Context(), o, b, grid, atv, stdout)

@@ -79,6 +79,7 @@ func schemeNames() []string {
 // built is a map with what the reports need to know about it.
 type built struct {
 	m        flow.Map
+	tensor   *decimation.TensorRG // the tensor engine instead of a map
 	meta     report.Meta
 	model    *decimation.Model // nil for a user recursion
 	scenario *scenarios.Scenario
@@ -188,6 +189,9 @@ func (o *options) build() (*built, error) {
 	bt, err := decimation.Build(ms.Name, ss.Name, given)
 	if err != nil {
 		return nil, usagef("%v", err)
+	}
+	if bt.Tensor != nil {
+		return &built{tensor: bt.Tensor, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: bt.Params(), Cautions: bt.Tensor.Cautions()}, model: bt.Model}, nil
 	}
 	return &built{m: bt.Map, meta: report.Meta{Model: ms.Name, Scheme: ss.Name, Params: bt.Params(), Cautions: cautions(bt.Map)}, model: bt.Model}, nil
 }

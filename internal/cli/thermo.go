@@ -59,6 +59,9 @@ disordered sink of bond moving) the value is null with a flag.`,
 					at = b.scenario.File.Path.At
 				}
 			}
+			if b.tensor != nil {
+				return runThermoTensor(cmd.Context(), o, b, along, grid, at, metric, stdout)
+			}
 			if hc, ok := b.m.(interface{ HasConstant() bool }); ok && !hc.HasConstant() {
 				return usagef("thermodynamics needs the constant g of each step; this recursion gives none (add constant = \"...\" to its [recursion])")
 			}
@@ -130,7 +133,7 @@ disordered sink of bond moving) the value is null with a flag.`,
 	return c
 }
 
-func metricIndices(m flow.Map, spec string) ([]int, error) {
+func metricIndices(m flow.Coupled, spec string) ([]int, error) {
 	cs := m.Couplings()
 	if spec == "" {
 		var out []int
@@ -162,7 +165,7 @@ func metricIndices(m flow.Map, spec string) ([]int, error) {
 	return out, nil
 }
 
-func gridPoints(m flow.Map, grid string, at map[string]float64) ([][]float64, error) {
+func gridPoints(m flow.Coupled, grid string, at map[string]float64) ([][]float64, error) {
 	specs := strings.SplitN(grid, ",", 2)
 	if len(specs) != 2 {
 		return nil, usagef("--grid %q: expected A=FROM:TO:N,B=FROM:TO:N", grid)

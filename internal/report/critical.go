@@ -14,7 +14,7 @@ import (
 // CriticalDoc is everything `critical` reports.
 type CriticalDoc struct {
 	Meta        Meta
-	Map         flow.Map
+	Map         flow.Coupled // a flow.Map, or the tensor engine
 	Path        flow.Path
 	Temperature bool
 	At          map[string]float64
@@ -24,6 +24,40 @@ type CriticalDoc struct {
 	Sweep       *SweepDoc
 	Cautions    []string
 	Material    *MaterialInfo
+	// Tensor holds, parallel to Crossings, what the tensor engine read at
+	// each transition (nil for the map schemes).
+	Tensor []TensorTransition
+}
+
+// TensorTransition is what the tensor engine reads at a transition.
+type TensorTransition struct {
+	Plateau        float64   // the value X holds at the transition (NaN: none, first order)
+	C              float64   // central charge (NaN if not read)
+	Dimensions     []float64 // scaling dimensions, lowest first
+	Step           int       // coarse-graining steps after which they were read
+	XSpin, XEnergy float64
+	Nu, Eta        float64
+}
+
+// TensorTransitionJSON is the tensor part of a transition in JSON.
+type TensorTransitionJSON struct {
+	Plateau           Num   `json:"degeneracy_plateau"`
+	CentralCharge     Num   `json:"central_charge"`
+	ScalingDimensions []Num `json:"scaling_dimensions"`
+	SpectrumStep      int   `json:"spectrum_step"`
+	XSpin             Num   `json:"x_spin"`
+	XEnergy           Num   `json:"x_energy"`
+	Nu                Num   `json:"nu"`
+	Eta               Num   `json:"eta"`
+	Undecided         bool  `json:"bisection_stopped_undecided"`
+}
+
+func nums(v []float64) []Num {
+	out := make([]Num, len(v))
+	for i, x := range v {
+		out[i] = Num(x)
+	}
+	return out
 }
 
 // MaterialJSON names the material behind a temperature in kelvin.
@@ -112,22 +146,23 @@ func order(meta Meta) string {
 
 // TransitionJSON is one crossing in the `critical --json` contract.
 type TransitionJSON struct {
-	Coupling    string            `json:"coupling"`
-	Value       Num               `json:"value"`
-	Bracket     [2]Num            `json:"bracket"`
-	Kind        string            `json:"kind"`
-	Controlling *ControllingJSON  `json:"controlling_fixed_point"`
-	KTOverJ     *Num              `json:"kT_over_J"`
-	Exchange    *Num              `json:"exchange_critical_coupling"`
-	Point       map[string]Num    `json:"point"`
-	Phases      map[string]string `json:"phases"`
-	Order       string            `json:"order,omitempty"`
-	Digits      int               `json:"significant_digits"`
-	Refined     bool              `json:"refined_by_scaling_field"`
-	TcKelvin    *Num              `json:"T_c_kelvin,omitempty"`
-	Material    *MaterialJSON     `json:"material,omitempty"`
-	KelvinNote  string            `json:"kelvin_note,omitempty"`
-	Caution     string            `json:"caution,omitempty"`
+	Coupling    string                `json:"coupling"`
+	Value       Num                   `json:"value"`
+	Bracket     [2]Num                `json:"bracket"`
+	Kind        string                `json:"kind"`
+	Controlling *ControllingJSON      `json:"controlling_fixed_point"`
+	KTOverJ     *Num                  `json:"kT_over_J"`
+	Exchange    *Num                  `json:"exchange_critical_coupling"`
+	Point       map[string]Num        `json:"point"`
+	Phases      map[string]string     `json:"phases"`
+	Order       string                `json:"order,omitempty"`
+	Digits      int                   `json:"significant_digits"`
+	Refined     bool                  `json:"refined_by_scaling_field"`
+	TcKelvin    *Num                  `json:"T_c_kelvin,omitempty"`
+	Material    *MaterialJSON         `json:"material,omitempty"`
+	KelvinNote  string                `json:"kelvin_note,omitempty"`
+	Caution     string                `json:"caution,omitempty"`
+	Tensor      *TensorTransitionJSON `json:"tensor,omitempty"`
 }
 
 // ControllingJSON is the fixed point controlling a crossing.
@@ -191,6 +226,15 @@ func (d CriticalDoc) notes() []string {
 	return n
 }
 
+func (d CriticalDoc) tensorAt(c flow.Crossing) *TensorTransition {
+	for k, x := range d.Crossings {
+		if x.Value == c.Value && k < len(d.Tensor) {
+			return &d.Tensor[k]
+		}
+	}
+	return nil
+}
+
 func (d CriticalDoc) transition(c flow.Crossing) TransitionJSON {
 	t := TransitionJSON{
 		Coupling: d.Path.Name, Value: Num(c.Value), Bracket: [2]Num{Num(c.Bracket[0]), Num(c.Bracket[1])},
@@ -211,7 +255,13 @@ func (d CriticalDoc) transition(c flow.Crossing) TransitionJSON {
 	}
 	if c.Controlling >= 0 && c.Controlling < len(d.Points) {
 		p := d.Points[c.Controlling]
-		t.Controlling = &ControllingJSON{Place: p.Place(d.Map), FixedPointJSON: FixedPoint(d.Map, p)}
+		if mm, ok := d.Map.(flow.Map); ok {
+			t.Controlling = &ControllingJSON{Place: p.Place(d.Map), FixedPointJSON: FixedPoint(mm, p)}
+		}
+	}
+	if tt := d.tensorAt(c); tt != nil {
+		t.Tensor = &TensorTransitionJSON{Plateau: Num(tt.Plateau), CentralCharge: Num(tt.C), ScalingDimensions: nums(tt.Dimensions),
+			SpectrumStep: tt.Step, XSpin: Num(tt.XSpin), XEnergy: Num(tt.XEnergy), Nu: Num(tt.Nu), Eta: Num(tt.Eta), Undecided: c.Undecided}
 	}
 	if d.Material != nil {
 		if tk, why := d.kelvin(c); why == "" {
@@ -389,6 +439,24 @@ func CriticalText(w io.Writer, d CriticalDoc) error {
 				b.WriteString(")")
 			}
 			b.WriteString("\n")
+		} else if tt := d.tensorAt(c); tt != nil {
+			b.WriteString("    controlled by: no fixed point (tensor renormalization has no flow of couplings)\n")
+			if c.Undecided {
+				b.WriteString("    bisection stopped at a flow still undecided: the transition lies in the bracket above\n")
+			}
+			if !math.IsNaN(tt.Plateau) {
+				fmt.Fprintf(&b, "    degeneracy X holds %s at the transition (a continuous transition)\n", Text(tt.Plateau, 4))
+			} else {
+				b.WriteString("    degeneracy X goes straight to a whole number at the transition (first order)\n")
+			}
+			if !math.IsNaN(tt.C) {
+				var ds []string
+				for _, x := range tt.Dimensions {
+					ds = append(ds, Text(x, 5))
+				}
+				fmt.Fprintf(&b, "    central charge %s, scaling dimensions %s (read after %d steps); nu = %s, eta = %s\n",
+					Text(tt.C, 5), strings.Join(ds, ", "), tt.Step, Text(tt.Nu, 5), Text(tt.Eta, 5))
+			}
 		} else {
 			b.WriteString("    controlled by: no fixed point identified\n")
 		}
@@ -422,7 +490,7 @@ func CriticalText(w io.Writer, d CriticalDoc) error {
 
 func quoted(s string) string { return "(" + s + ")" }
 
-func exchange(m flow.Map) int {
+func exchange(m flow.Coupled) int {
 	for i, c := range m.Couplings() {
 		if c.Role == flow.Exchange && c.Symmetric {
 			return i

@@ -15,7 +15,7 @@ type ThermoPoint = flow.ThermoValues
 // ThermoDoc is everything `thermo` reports.
 type ThermoDoc struct {
 	Meta        Meta
-	Map         flow.Map
+	Map         flow.Coupled
 	Metric      []int
 	Points      []ThermoPoint
 	Temperature bool

@@ -1,0 +1,216 @@
+package cli
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"runtime"
+	"sync"
+	"time"
+
+	"scalewalk/decimation"
+	"scalewalk/flow"
+	"scalewalk/internal/report"
+)
+
+// The tensor scheme has no flow of couplings: fixed, critical and thermo
+// take these paths for it.
+
+// tensorProgress shows, on a terminal, each phase decision of a long run.
+func tensorProgress(t *decimation.TensorRG, what string) func() {
+	if !isTerminal(os.Stderr) {
+		return func() {}
+	}
+	start := time.Now()
+	var mu sync.Mutex
+	t.OnPhase = func(x []float64, ph flow.Phase) {
+		mu.Lock()
+		defer mu.Unlock()
+		fmt.Fprintf(os.Stderr, "\r\033[K%6.1fs  %s: %s=%.10g -> %s after %d steps", time.Since(start).Seconds(), what, t.Couplings()[0].Name, x[0], ph.Label, ph.Steps)
+		progressShown = true
+	}
+	return func() { t.OnPhase = nil; clearProgress() }
+}
+
+func tensorCritical(ctx context.Context, t *decimation.TensorRG, path flow.Path, tol float64) ([]decimation.TensorCritical, []report.TensorTransition, error) {
+	var tcs []decimation.TensorCritical
+	err := safely(func() error {
+		var e error
+		tcs, e = t.Critical(ctx, path, tol)
+		return e
+	})
+	if err != nil {
+		if errors.Is(err, flow.ErrCanceled) || ctx.Err() != nil {
+			return nil, nil, fmt.Errorf("interrupted: critical search canceled")
+		}
+		return nil, nil, err
+	}
+	var tt []report.TensorTransition
+	for _, c := range tcs {
+		tt = append(tt, report.TensorTransition{Plateau: c.Plateau, C: c.Spectrum.C, Dimensions: c.Spectrum.Dimensions, Step: c.Spectrum.Step,
+			XSpin: c.XSpin, XEnergy: c.XEnergy, Nu: c.Nu, Eta: c.Eta})
+		if !c.Have {
+			tt[len(tt)-1].C = nanf()
+		}
+	}
+	return tcs, tt, nil
+}
+
+func nanf() float64 { var z float64; return z / z }
+
+// runFixedTensor finds the critical points of the tensor scheme on the
+// exchange from 0.05 to 3 at zero field, and what the coarse tensor says
+// of each.
+func runFixedTensor(ctx context.Context, o *options, b *built, stdout io.Writer) error {
+	t := b.tensor
+	e := exchangeIndex(t)
+	if e < 0 {
+		return usagef("fixed --scheme tensor: the model has no exchange coupling to scan")
+	}
+	cs := t.Couplings()
+	path := flow.Path{Name: cs[e].Name, From: 0.05, To: 3, Samples: 12, Point: func(dst []float64, v float64) {
+		for i := range dst {
+			dst[i] = 0
+		}
+		dst[e] = v
+	}}
+	done := tensorProgress(t, "bisecting")
+	tcs, tt, err := tensorCritical(ctx, t, path, 1e-6)
+	done()
+	if err != nil {
+		return err
+	}
+	doc := report.TensorFixedDoc{Meta: b.meta, Path: fmt.Sprintf("%s from 0.05 to 3, every other coupling 0 (bisection to 1e-6)", cs[e].Name), Cautions: b.meta.Cautions}
+	for k, c := range tcs {
+		doc.Points = append(doc.Points, report.TensorFixedPoint{Coupling: cs[e].Name, Value: c.Crossing.Value, Bracket: c.Crossing.Bracket,
+			Kind: c.Kind.String(), TensorTransition: tt[k]})
+	}
+	if o.json {
+		return writeJSON(stdout, report.TensorFixed(doc))
+	}
+	if o.csv {
+		return usagef("fixed --scheme tensor writes text or --json")
+	}
+	return report.TensorFixedText(stdout, doc)
+}
+
+// runCriticalTensor locates the transitions on a path with the tensor
+// engine.
+func runCriticalTensor(ctx context.Context, o *options, b *built, along rangeSpec, at map[string]float64, samples int, tol float64, stdout io.Writer) error {
+	t := b.tensor
+	path, temp, err := pathFor(t, along, at, samples)
+	if err != nil {
+		return err
+	}
+	done := tensorProgress(t, "bisecting")
+	tcs, tt, err := tensorCritical(ctx, t, path, tol)
+	done()
+	if err != nil {
+		return err
+	}
+	doc := report.CriticalDoc{Meta: b.meta, Map: t, Path: path, Temperature: temp, At: at, Tolerance: tol, Cautions: b.meta.Cautions, Tensor: tt}
+	for _, c := range tcs {
+		doc.Crossings = append(doc.Crossings, c.Crossing)
+	}
+	switch {
+	case o.json:
+		return writeJSON(stdout, report.Critical(doc))
+	case o.csv:
+		return report.CriticalCSV(stdout, doc)
+	}
+	return report.CriticalText(stdout, doc)
+}
+
+// tensorThermoPoints computes the thermodynamics at each point on all
+// cores, with progress on a terminal.
+func tensorThermoPoints(ctx context.Context, t *decimation.TensorRG, pts [][]float64, metric []int) []report.ThermoPoint {
+	out := make([]report.ThermoPoint, len(pts))
+	work := make(chan int)
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	done := 0
+	start := time.Now()
+	show := isTerminal(os.Stderr)
+	for w := 0; w < runtime.GOMAXPROCS(0); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range work {
+				out[k] = t.Thermo(ctx, pts[k], metric)
+				mu.Lock()
+				done++
+				if show {
+					fmt.Fprintf(os.Stderr, "\r\033[K%6.1fs  point %d of %d", time.Since(start).Seconds(), done, len(pts))
+					progressShown = true
+				}
+				mu.Unlock()
+			}
+		}()
+	}
+	for k := range pts {
+		if ctx.Err() != nil {
+			break
+		}
+		work <- k
+	}
+	close(work)
+	wg.Wait()
+	clearProgress()
+	return out
+}
+
+// runThermoTensor computes the thermodynamics along a path or on a grid
+// with the tensor engine.
+func runThermoTensor(ctx context.Context, o *options, b *built, along, grid, at, metric string, stdout io.Writer) error {
+	t := b.tensor
+	atv, err := parseAt(at)
+	if err != nil {
+		return err
+	}
+	mi, err := metricIndices(t, metric)
+	if err != nil {
+		return err
+	}
+	var pts [][]float64
+	var ts []float64
+	temp := false
+	if grid != "" {
+		if pts, err = gridPoints(t, grid, atv); err != nil {
+			return err
+		}
+	} else {
+		if along == "" {
+			return usagef("thermo needs --along NAME=FROM:TO[:N] or --grid A=FROM:TO:N,B=FROM:TO:N")
+		}
+		ar, err := parseRange("--along", along, false)
+		if err != nil {
+			return err
+		}
+		p, isT, err := pathFor(t, ar, atv, 100)
+		if err != nil {
+			return err
+		}
+		temp = isT
+		for k := 0; k < p.Samples; k++ {
+			v := p.From + (p.To-p.From)*float64(k)/float64(p.Samples-1)
+			x := make([]float64, len(t.Couplings()))
+			p.Point(x, v)
+			pts = append(pts, x)
+			ts = append(ts, v)
+		}
+	}
+	rows := tensorThermoPoints(ctx, t, pts, mi)
+	if ctx.Err() != nil {
+		return fmt.Errorf("interrupted: thermodynamics canceled")
+	}
+	doc := report.ThermoDoc{Meta: b.meta, Map: t, Metric: mi, Points: rows, Temperature: temp, T: ts}
+	switch {
+	case o.json:
+		return writeJSON(stdout, report.Thermo(doc))
+	case o.csv:
+		return report.ThermoCSV(stdout, doc)
+	}
+	return report.ThermoText(stdout, doc)
+}
