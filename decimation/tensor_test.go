@@ -334,3 +334,28 @@ func TestTensorCentralChargeIsing(t *testing.T) {
 		}
 	}
 }
+
+// Thermodynamics by central differences of the tensor free energy: the
+// energy against −dψ/dK of Onsager's free energy (itself differenced, from
+// the quadrature above; Onsager 1944) and, in the ordered phase, the
+// spontaneous magnetization against Yang's (1 − sinh⁻⁴ 2K)^{1/8} (C. N.
+// Yang, Phys. Rev. 85, 808 (1952), from memory).
+func TestTensorThermo(t *testing.T) {
+	tr := mustTensor(t, NewIsing(), "trg", 16)
+	for _, K := range []float64{0.3, 0.6} {
+		p := tr.Thermo(context.Background(), []float64{K, 0}, nil)
+		const d = 1e-5
+		u := -(onsager(K+d) - onsager(K-d)) / (2 * d)
+		if math.Abs(p.U-u) > 1e-5*math.Abs(u) {
+			t.Errorf("K=%g: energy %.9f, Onsager %.9f", K, p.U, u)
+		}
+		m0 := 0.0
+		if K > math.Log(1+math.Sqrt2)/2 {
+			m0 = math.Pow(1-math.Pow(math.Sinh(2*K), -4), 0.125)
+		}
+		if math.Abs(p.M0-m0) > 1e-3 {
+			t.Errorf("K=%g: spontaneous magnetization %.6f, Yang %.6f", K, p.M0, m0)
+		}
+		t.Logf("K=%g: u = %.8f (Onsager %.8f), m0 = %.6f (Yang %.6f), C = %.5f", K, p.U, u, p.M0, m0, p.C)
+	}
+}

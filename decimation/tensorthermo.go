@@ -19,9 +19,10 @@ const TensorStep = 1e-3
 // free energy (step TensorStep, stated in the flags), the energy and the
 // specific heat along the ray on which every coupling scales as 1/T, the
 // magnetization and susceptibility in the field, and the metric over the
-// couplings metric. What a truncated free energy cannot give reliably —
-// the curvature (third derivatives), the spontaneous magnetization and
-// the correlation length — is NaN with a flag.
+// couplings metric; in the ordered phase at zero field, the spontaneous
+// magnetization as the one-sided limit h -> 0+. What a truncated free
+// energy cannot give reliably — the curvature (third derivatives) and the
+// correlation length — is NaN with a flag.
 func (t *TensorRG) Thermo(ctx context.Context, x []float64, metric []int) flow.ThermoValues {
 	nan := math.NaN()
 	p := flow.ThermoValues{X: x, F: nan, U: nan, C: nan, M: nan, Chi: nan, M0: nan, Xi: nan, Det: nan, R: nan}
@@ -113,6 +114,33 @@ func (t *TensorRG) Thermo(ctx context.Context, x []float64, metric []int) flow.T
 	p.C = xx
 	if field >= 0 {
 		p.M, p.Chi = grad[at(field)], hess[at(field)][at(field)]
+		if x[field] == 0 && onlyFieldZero(cs, x) {
+			ph := t.Phase(ctx, x)
+			switch {
+			case ph.Index >= 2:
+				// h = 0 is a first-order boundary: the one-sided limit
+				// h -> 0+, from s(δ) = (F(δ) − F(0))/δ with one
+				// Richardson step, m0 = 2 s(δ) − s(2δ).
+				a := at(field)
+				s1 := (f(a, 1, -1, 0) - f0) / d[a]
+				y := append([]float64(nil), x...)
+				y[field] = 2 * d[a]
+				f2, err := t.FreeEnergy(ctx, y)
+				if err == nil {
+					s2 := (f2 - f0) / (2 * d[a])
+					p.M0 = 2*s1 - s2
+					p.M = p.M0
+				}
+				p.Chi = nan
+				p.Flags = append(p.Flags, "ordered phase at h = 0 (a first-order boundary): magnetization as the one-sided limit h -> 0+; susceptibility not given")
+				if slices.Contains(metric, field) {
+					p.Metric, p.Det = nil, nan
+					p.Flags = append(p.Flags, "metric: the field's second derivative does not exist on the first-order boundary h = 0")
+				}
+			case ph.Index == 1:
+				p.M0 = 0
+			}
+		}
 	}
 	if len(metric) > 0 {
 		p.Metric = make([][]float64, len(metric))
@@ -126,7 +154,7 @@ func (t *TensorRG) Thermo(ctx context.Context, x []float64, metric []int) flow.T
 	}
 	p.Flags = append(p.Flags,
 		fmt.Sprintf("derivatives by central differences of the tensor free energy, step %g relative", TensorStep),
-		"curvature, spontaneous magnetization and correlation length: not available from a truncated tensor free energy")
+		"curvature and correlation length: not available from a truncated tensor free energy")
 	if p.C < 0 || p.Chi < 0 {
 		p.Flags = append(p.Flags, "a negative second derivative: the truncation error dominates the difference here (near the transition, or chi too small)")
 		if p.C < 0 {
@@ -137,6 +165,17 @@ func (t *TensorRG) Thermo(ctx context.Context, x []float64, metric []int) flow.T
 		}
 	}
 	return p
+}
+
+// onlyFieldZero reports whether every symmetry-breaking coupling of x is
+// zero.
+func onlyFieldZero(cs []flow.Coupling, x []float64) bool {
+	for i, c := range cs {
+		if !c.Symmetric && x[i] != 0 {
+			return false
+		}
+	}
+	return true
 }
 
 // det2 is the determinant of a small matrix by cofactors (at most 3 × 3).
