@@ -68,6 +68,19 @@ func settings(spec Spec, q float64) []setting {
 			setting{"Niemeijer–van Leeuwen cumulant, order 2", "cumulant", map[string]string{"lattice": "triangular", "order": "2"}, "", false},
 		)
 	}
+	if spec.Lattice == "square" {
+		tn := func(method, chi string) setting {
+			name := "tensor renormalization (Levin–Nave TRG)"
+			if method == "hotrg" {
+				name = "tensor renormalization (HOTRG)"
+			}
+			return setting{name, "tensor", map[string]string{"method": method, "chi": chi}, "", false}
+		}
+		out = append(out, tn("trg", "8"), tn("trg", "16"), tn("hotrg", "8"))
+		if spec.Large {
+			out = append(out, tn("trg", "24"), tn("hotrg", "16"))
+		}
+	}
 	if spec.Model == "ising" || spec.Model == "potts" {
 		cl := func(blocks, keep, boundary string) setting {
 			return setting{"finite-cluster RG", "cluster", map[string]string{"lattice": spec.Lattice, "blocks": blocks, "keep": keep, "boundary": boundary}, "", false}
@@ -199,6 +212,9 @@ func run(ctx context.Context, spec Spec, s setting) ([]Row, error) {
 			return []Row{row}, nil
 		}
 		return nil, err
+	}
+	if b.Tensor != nil {
+		return runTensor(ctx, row, b.Tensor)
 	}
 	m := b.Map
 	res, err := flow.FindAll(ctx, m, nil)
@@ -355,4 +371,35 @@ func fieldProbe(r *Row, spec Spec, set map[string]string, p flow.FixedPoint) err
 	r.Eta = m.Dimension() + 2 - 2*r.YH
 	r.Note = join(r.Note, "y_h from dh'/dh at the fixed point (h kept)")
 	return nil
+}
+
+// runTensor fills a row from the tensor engine: K_c by bisection on the
+// phase along the exchange, the exponents from the scaling dimensions of
+// the coarse tensor there; there is no fixed point, so no K*.
+func runTensor(ctx context.Context, row Row, t *decimation.TensorRG) ([]Row, error) {
+	path := flow.Path{Name: "K", From: 0.05, To: 3, Samples: 12, Point: func(dst []float64, v float64) {
+		for i := range dst {
+			dst[i] = 0
+		}
+		dst[0] = v
+	}}
+	tcs, err := t.Critical(ctx, path, 1e-6)
+	if err != nil {
+		return nil, err
+	}
+	row.Note = join(row.Note, "no fixed point of couplings (K* not defined); exponents from the scaling dimensions of the coarse tensor")
+	if len(tcs) == 0 {
+		row.Note = join(row.Note, "no transition found along K in [0.05, 3]")
+		return []Row{row}, nil
+	}
+	c := tcs[0]
+	row.KC = c.Crossing.Value
+	if c.Have {
+		row.YT, row.YH = 2-c.XEnergy, 2-c.XSpin
+		row.Nu, row.Eta = c.Nu, c.Eta
+		row.Note = join(row.Note, fmt.Sprintf("central charge %.4f, read after %d steps", c.Spectrum.C, c.Spectrum.Step))
+	} else {
+		row.Note = join(row.Note, "transition of kind "+c.Kind.String()+": no spectrum read")
+	}
+	return []Row{row}, nil
 }

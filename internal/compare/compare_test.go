@@ -92,3 +92,29 @@ func TestCompareBadLattice(t *testing.T) {
 		t.Error("cubic lattice accepted")
 	}
 }
+
+// The square Ising comparison: the exact row (Kramers and Wannier, Phys.
+// Rev. 60, 252 (1941); Onsager 1944), tensor rows without K* whose K_c at
+// chi = 16 (Levin–Nave) lies within 1e-3 of it and whose nu within 1 % of
+// 1 (Onsager), and the finite clusters within 3 %.
+func TestCompareSquareIsing(t *testing.T) {
+	rows, err := Rows(context.Background(), Spec{Model: "ising", Lattice: "square"}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	exact := math.Log(1+math.Sqrt2) / 2
+	ex := find(rows, "exact", "", "")
+	if ex == nil || ex.KC != exact {
+		t.Fatalf("exact row %+v", ex)
+	}
+	tr := find(rows, "tensor renormalization (Levin–Nave TRG)", "chi", "16")
+	if tr == nil || math.Abs(tr.KC-exact)/exact > 1e-3 || !math.IsNaN(tr.KStar) || math.Abs(tr.Nu-1) > 0.01 {
+		t.Errorf("TRG chi=16 row %+v", tr)
+	}
+	for _, n := range []string{"4", "6"} {
+		r := find(rows, "finite-cluster RG", "blocks", n)
+		if r == nil || math.Abs(r.KC-exact)/exact > 0.03 {
+			t.Errorf("cluster %s blocks: %+v", n, r)
+		}
+	}
+}
