@@ -42,6 +42,11 @@ type TensorRG struct {
 	Tol           float64
 	// OnPhase, when set, is told each phase decision (for progress).
 	OnPhase func(x []float64, ph flow.Phase)
+	// CriticalPhase enables the third outcome, a critical phase (X held
+	// on a non-integer plateau for PlateauSteps square steps): on for the
+	// clock model with q >= 5, which has one between two transitions.
+	CriticalPhase bool
+	PlateauSteps  int
 }
 
 // TensorMemory estimates the peak bytes of one coarse-graining step.
@@ -75,7 +80,9 @@ func NewTensorRG(m *Model, method string, chi, steps int) (*TensorRG, error) {
 	if steps < 1 || steps > 200 {
 		return nil, &ParamError{Name: "steps", Value: fmt.Sprint(steps), Reason: "accepted: 1 to 200"}
 	}
-	return &TensorRG{model: m, cs: m.Couplings(), q: int(m.States()), Method: method, Chi: chi, Steps: steps, MaxPhaseSteps: 60, Tol: 0.02}, nil
+	t := &TensorRG{model: m, cs: m.Couplings(), q: int(m.States()), Method: method, Chi: chi, Steps: steps, MaxPhaseSteps: 60, Tol: 0.02, PlateauSteps: 8}
+	t.CriticalPhase = strings.HasPrefix(m.Name(), "clock") && t.q >= 5
+	return t, nil
 }
 
 // Couplings returns the model's couplings.
@@ -477,7 +484,7 @@ func (t *TensorRG) Degeneracies(ctx context.Context, x []float64, steps int) ([]
 
 // Phase decides the phase x flows to from the degeneracy X of the coarse
 // tensor, read at the first (square) step where X comes within Tol of an
-// integer and moved by less than Tol since the previous square step: 1 is
+// integer and moved by less than Tol over the two previous square steps: 1 is
 // the disordered phase, n ≥ 2 an ordered phase with n
 // states. The decision is taken at once, since a degenerate ordered tensor
 // is unstable to round-off symmetry breaking and drifts back to X = 1 after
@@ -485,7 +492,8 @@ func (t *TensorRG) Degeneracies(ctx context.Context, x []float64, steps int) ([]
 // undecided (Index −1).
 func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 	ph := flow.Phase{Index: -1, Label: "undecided", Undecided: true}
-	prev := math.NaN()
+	prev, prev2 := math.NaN(), math.NaN()
+	plateau := 0
 	_, err := t.run(ctx, x, t.MaxPhaseSteps, func(n int, T *tensor4, _ float64) bool {
 		ph.Steps = n
 		if !t.squareStep(n) {
@@ -493,9 +501,13 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 		}
 		X := T.degeneracy()
 		r := math.Round(X)
-		// Within Tol of an integer and settled there (a flow passing an
-		// integer on its way elsewhere moves by more than Tol per step).
-		if r >= 1 && math.Abs(X-r) < t.Tol && math.Abs(X-prev) < t.Tol {
+		// Within Tol of an integer and settled there for two square steps
+		// (a flow passing an integer on its way elsewhere moves on).
+		// With a critical phase (clock, q >= 5) the flow leaving the
+		// plateau drifts slowly past intermediate integers: only 1 and q
+		// decide there.
+		allowed := !t.CriticalPhase || r == 1 || int(r) == t.q
+		if allowed && r >= 1 && math.Abs(X-r) < t.Tol && math.Abs(X-prev) < t.Tol && math.Abs(prev-prev2) < t.Tol {
 			ph.Index, ph.Undecided = int(r), false
 			if r == 1 {
 				ph.Label = "disordered (X -> 1)"
@@ -504,7 +516,17 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 			}
 			return false
 		}
-		prev = X
+		if t.CriticalPhase && n >= 8 && math.Abs(X-prev) < t.Tol/2 && math.Abs(X-r) >= t.Tol {
+			plateau++
+			if plateau >= t.PlateauSteps {
+				ph.Index, ph.Undecided = 0, false
+				ph.Label = "critical phase (X on a non-integer plateau)"
+				return false
+			}
+		} else {
+			plateau = 0
+		}
+		prev, prev2 = X, prev
 		return true
 	})
 	if err != nil {

@@ -359,3 +359,26 @@ func TestTensorThermo(t *testing.T) {
 		t.Logf("K=%g: u = %.8f (Onsager %.8f), m0 = %.6f (Yang %.6f), C = %.5f", K, p.U, u, p.M0, m0, p.C)
 	}
 }
+
+// The third outcome is on for the clock model with q >= 5 only, and deep
+// in either phase the decision is the plain one (X -> 1 at high
+// temperature, X -> q, the q ordered states, at low; common knowledge of
+// the clock model's phases).
+func TestTensorClockPhases(t *testing.T) {
+	c4, _ := NewClock(4)
+	c6, _ := NewClock(6)
+	if mustTensor(t, c4, "trg", 8).CriticalPhase || !mustTensor(t, c6, "trg", 8).CriticalPhase || mustTensor(t, NewIsing(), "trg", 8).CriticalPhase {
+		t.Fatal("critical-phase outcome enabled for the wrong models")
+	}
+	tr := mustTensor(t, c6, "trg", 16)
+	x := make([]float64, len(c6.Couplings()))
+	for _, c := range []struct {
+		K    float64
+		want int
+	}{{0.5, 1}, {3, 6}} {
+		x[0] = c.K
+		if ph := tr.Phase(context.Background(), x); ph.Index != c.want {
+			t.Errorf("clock q=6 K=%g: %+v, want index %d", c.K, ph, c.want)
+		}
+	}
+}

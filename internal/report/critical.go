@@ -223,6 +223,22 @@ func (d CriticalDoc) notes() []string {
 	if d.Temperature {
 		n = append(n, "temperature path: the exchange is 1/T and every held value an energy in units of the exchange")
 	}
+	// A critical phase (X on a non-integer plateau, clock q >= 5) between
+	// two crossings: name both ends.
+	const crit = "critical phase"
+	for i, c := range d.Crossings {
+		if strings.HasPrefix(c.Above.Label, crit) {
+			end := "the end of the path"
+			for _, e := range d.Crossings[i+1:] {
+				if strings.HasPrefix(e.Below.Label, crit) {
+					end = fmt.Sprintf("%s = %s", d.Path.Name, Text(e.Value, 8))
+					break
+				}
+			}
+			n = append(n, fmt.Sprintf("a critical phase (X on a non-integer plateau) from %s = %s to %s: there is no single critical coupling there, and with a finite chi its ends are estimates that move as chi grows",
+				d.Path.Name, Text(c.Value, 8), end))
+		}
+	}
 	return n
 }
 
