@@ -166,7 +166,7 @@ func checkPath(m flow.Map, p flow.Path) error {
 
 func newCritical(stdout io.Writer) *cobra.Command {
 	o := &options{}
-	var along, at, sweep, grid string
+	var along, at, sweep, grid, chis string
 	var samples int
 	var tol float64
 	c := &cobra.Command{
@@ -204,7 +204,10 @@ of the coarse tensor (1 disordered, n ordered with n states), decided at the
 first square step where X settles within 0.02 of a whole number (at most 60
 steps; a flow still undecided ends the bisection and the bracket is given);
 the defaults there are --samples 8 and --tol 1e-6, there is no controlling
-fixed point, and the kind comes from the plateau X holds at the transition.`,
+fixed point, and the kind comes from the plateau X holds at the transition.
+--chis 8,16,32 repeats the search at each bond dimension and extrapolates
+each transition in chi (three values in ratio: Aitken's delta-squared, for a
+truncation error falling geometrically; two: their difference as the error).`,
 		Example: `  scalewalk critical --model ising --scheme bondmove --set d=2 --along T=1:5
   scalewalk critical --model spin1 --scheme bondmove --set d=2 --set b=2 --along T=0.1:3 --at K=0,D=1.5
   scalewalk critical --model spin1 --scheme bondmove --along J=0.1:3 --at D=0.5 --json
@@ -257,6 +260,9 @@ fixed point, and the kind comes from the plateau X holds at the transition.`,
 				if !cmd.Flags().Changed("tol") {
 					tol = 1e-6
 				}
+				if chis != "" {
+					return runCriticalChis(cmd.Context(), o, chis, ar, atv, samples, tol, stdout)
+				}
 				return runCriticalTensor(cmd.Context(), o, b, ar, atv, samples, tol, stdout)
 			}
 			if grid != "" {
@@ -287,6 +293,7 @@ fixed point, and the kind comes from the plateau X holds at the transition.`,
 	c.Flags().StringVar(&at, "at", "", "held couplings, NAME=VALUE,... (energies in units of the exchange on a T path)")
 	c.Flags().IntVar(&samples, "samples", 64, "samples along the path")
 	c.Flags().Float64Var(&tol, "tol", 1e-10, "bisection tolerance in the path variable")
+	c.Flags().StringVar(&chis, "chis", "", "tensor scheme: repeat at these bond dimensions, e.g. 8,16,32, and extrapolate the transitions in chi")
 	c.Flags().StringVar(&sweep, "sweep", "", "repeat for each value of a held coupling, NAME=FROM:TO[:N]")
 	c.Flags().StringVar(&grid, "grid", "", "phase map over two couplings, A=FROM:TO:N,B=FROM:TO:N")
 	o.addModelFlags(c.Flags())

@@ -7,6 +7,8 @@ import (
 	"io"
 	"os"
 	"runtime"
+	"strconv"
+	"strings"
 	"sync"
 	"time"
 
@@ -213,4 +215,64 @@ func runThermoTensor(ctx context.Context, o *options, b *built, along, grid, at,
 		return report.ThermoCSV(stdout, doc)
 	}
 	return report.ThermoText(stdout, doc)
+}
+
+// runCriticalChis repeats the tensor search at several bond dimensions and
+// extrapolates each transition in chi.
+func runCriticalChis(ctx context.Context, o *options, chis string, along rangeSpec, at map[string]float64, samples int, tol float64, stdout io.Writer) error {
+	var list []int
+	for _, w := range strings.Split(chis, ",") {
+		v, err := strconv.Atoi(strings.TrimSpace(w))
+		if err != nil || v < 2 {
+			return usagef("--chis %q: expected whole numbers >= 2 separated by commas, e.g. 8,16,32", chis)
+		}
+		list = append(list, v)
+	}
+	if len(list) < 2 {
+		return usagef("--chis %q: give at least two bond dimensions", chis)
+	}
+	var rows []report.ChiRow
+	for _, chi := range list {
+		o2 := *o
+		o2.set = append(append([]string{}, o.set...), "chi="+strconv.Itoa(chi))
+		o2.set = dropSet(o2.set, "chi", len(o2.set)-1)
+		b, err := o2.build()
+		if err != nil {
+			return err
+		}
+		path, _, err := pathFor(b.tensor, along, at, samples)
+		if err != nil {
+			return err
+		}
+		done := tensorProgress(b.tensor, fmt.Sprintf("chi=%d", chi))
+		tcs, _, err := tensorCritical(ctx, b.tensor, path, tol)
+		done()
+		if err != nil {
+			return err
+		}
+		r := report.ChiRow{Chi: chi}
+		for _, c := range tcs {
+			r.Values = append(r.Values, c.Crossing.Value)
+			r.Nu = append(r.Nu, c.Nu)
+		}
+		rows = append(rows, r)
+	}
+	doc := report.ChiDoc{Variable: along.name, Rows: rows}
+	doc.Extrapolate()
+	if o.json {
+		return writeJSON(stdout, doc.JSON())
+	}
+	return doc.Text(stdout)
+}
+
+// dropSet removes every NAME=... entry but the one at keep.
+func dropSet(set []string, name string, keep int) []string {
+	var out []string
+	for i, kv := range set {
+		if n, _, _ := strings.Cut(kv, "="); n == name && i != keep {
+			continue
+		}
+		out = append(out, kv)
+	}
+	return out
 }

@@ -108,3 +108,101 @@ func TensorFixedText(w io.Writer, d TensorFixedDoc) error {
 	_, err := io.WriteString(w, b.String())
 	return err
 }
+
+// ChiRow is the transitions found at one bond dimension.
+type ChiRow struct {
+	Chi    int
+	Values []float64
+	Nu     []float64
+}
+
+// ChiDoc is `critical --chis`: each transition at growing chi and its
+// extrapolation.
+type ChiDoc struct {
+	Variable     string
+	Rows         []ChiRow
+	Extrapolated []float64 // per transition; NaN when not possible
+	Error        []float64 // an estimate of the error of the last value
+	Method       string
+}
+
+// Extrapolate fills Extrapolated and Error transition by transition, when
+// every chi found the same number of transitions: with three or more
+// values, Aitken's delta-squared on the last three (a truncation error
+// falling geometrically as chi grows); with two, the last value and their
+// difference as its error.
+func (d *ChiDoc) Extrapolate() {
+	n := len(d.Rows[0].Values)
+	for _, r := range d.Rows {
+		if len(r.Values) != n {
+			d.Method = "the number of transitions changes with chi: no extrapolation"
+			return
+		}
+	}
+	k := len(d.Rows)
+	for i := 0; i < n; i++ {
+		last := d.Rows[k-1].Values[i]
+		prev := d.Rows[k-2].Values[i]
+		if k >= 3 {
+			first := d.Rows[k-3].Values[i]
+			den := (last - prev) - (prev - first)
+			if den != 0 && math.Abs(last-prev) < math.Abs(prev-first) {
+				x := last - (last-prev)*(last-prev)/den
+				d.Extrapolated = append(d.Extrapolated, x)
+				d.Error = append(d.Error, math.Abs(x-last))
+				d.Method = "Aitken's delta-squared on the last three chi (a truncation error falling geometrically)"
+				continue
+			}
+		}
+		d.Extrapolated = append(d.Extrapolated, math.NaN())
+		d.Error = append(d.Error, math.Abs(last-prev))
+		if d.Method == "" {
+			d.Method = "the last value, its error estimated by the change from the previous chi (no geometric convergence seen)"
+		}
+	}
+}
+
+// ChiJSON is the JSON form.
+type ChiJSON struct {
+	Variable     string       `json:"variable"`
+	Rows         []ChiRowJSON `json:"rows"`
+	Extrapolated []Num        `json:"extrapolated"`
+	Error        []Num        `json:"error_estimate"`
+	Method       string       `json:"method"`
+}
+
+// ChiRowJSON is one chi.
+type ChiRowJSON struct {
+	Chi    int   `json:"chi"`
+	Values []Num `json:"values"`
+	Nu     []Num `json:"nu"`
+}
+
+// JSON returns the document.
+func (d ChiDoc) JSON() ChiJSON {
+	j := ChiJSON{Variable: d.Variable, Extrapolated: nums(d.Extrapolated), Error: nums(d.Error), Method: d.Method}
+	for _, r := range d.Rows {
+		j.Rows = append(j.Rows, ChiRowJSON{Chi: r.Chi, Values: nums(r.Values), Nu: nums(r.Nu)})
+	}
+	return j
+}
+
+// Text writes the table.
+func (d ChiDoc) Text(w io.Writer) error {
+	var b strings.Builder
+	fmt.Fprintf(&b, "transitions in %s at growing chi\n", d.Variable)
+	for _, r := range d.Rows {
+		var v []string
+		for k, x := range r.Values {
+			v = append(v, fmt.Sprintf("%s (nu %s)", Text(x, 10), Text(r.Nu[k], 4)))
+		}
+		fmt.Fprintf(&b, "  chi %-4d %s\n", r.Chi, strings.Join(v, "; "))
+	}
+	var v []string
+	for k, x := range d.Extrapolated {
+		v = append(v, fmt.Sprintf("%s (error about %s)", Text(x, 10), Text(d.Error[k], 2)))
+	}
+	fmt.Fprintf(&b, "  chi -> inf  %s\n  method: %s\n", strings.Join(v, "; "), d.Method)
+	_, err := io.WriteString(w, b.String())
+	return err
+}
