@@ -3,9 +3,12 @@ package tui
 import (
 	"context"
 	"math"
+	"runtime"
+	"sync"
 
 	tea "github.com/charmbracelet/bubbletea"
 
+	"scalewalk/decimation"
 	"scalewalk/flow"
 )
 
@@ -19,6 +22,10 @@ type solvedMsg struct {
 	lines    [][][2]float64
 	boundary [][2]float64
 	err      error
+	// the tensor engine's basin map and the transitions along the
+	// horizontal line through the cursor
+	basin  []Marker
+	tcrits []decimation.TensorCritical
 }
 
 type crossMsg struct {
@@ -134,4 +141,94 @@ func fanCmd(ctx context.Context, id int, sl flow.Slice, cx, cy, rx, ry float64) 
 		}
 		return fanMsg{id: id, lines: lines}
 	}
+}
+
+// tensorSolveCmd draws the basin map of the tensor engine: the phase each
+// start on a coarse grid of the slice flows to, the boundary between
+// neighbours in different phases, and the transitions along the
+// horizontal line through the cursor with the central charge and scaling
+// dimensions there.
+func tensorSolveCmd(ctx context.Context, id int, t *decimation.TensorRG, sl flow.Slice, ax, ay Axis, cy float64) tea.Cmd {
+	return func() (msg tea.Msg) {
+		defer func() {
+			if r := recover(); r != nil {
+				msg = solvedMsg{id: id, err: errorf("internal error in the computation: %v", r)}
+			}
+		}()
+		// Edges included, so that a symmetric range has a row at 0 (the
+		// zero-field line, where the ordered phases live).
+		const gx, gy = 21, 11
+		xs := make([]float64, gx)
+		ys := make([]float64, gy)
+		for i := range xs {
+			xs[i] = ax.Value(float64(i) / (gx - 1))
+		}
+		for j := range ys {
+			ys[j] = ay.Value(float64(j) / (gy - 1))
+		}
+		xs, ys = finite(xs), finite(ys)
+		grid := make([][]flow.Phase, gy)
+		for j := range grid {
+			grid[j] = make([]flow.Phase, gx)
+		}
+		var wg sync.WaitGroup
+		work := make(chan [2]int)
+		for w := 0; w < runtime.GOMAXPROCS(0); w++ {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				for c := range work {
+					grid[c[1]][c[0]] = t.Phase(ctx, sl.Point(xs[c[0]], ys[c[1]]))
+				}
+			}()
+		}
+		for j := range ys {
+			for i := range xs {
+				if ctx.Err() == nil {
+					work <- [2]int{i, j}
+				}
+			}
+		}
+		close(work)
+		wg.Wait()
+		if ctx.Err() != nil {
+			return solvedMsg{id: id, err: flow.ErrCanceled}
+		}
+		var basin []Marker
+		var boundary [][2]float64
+		for j := range grid {
+			for i := range grid[j] {
+				basin = append(basin, Marker{X: xs[i], Y: ys[j], Rune: phaseRune(grid[j][i]), Style: styleTrail})
+				if i+1 < gx && !grid[j][i].Same(grid[j][i+1]) {
+					boundary = append(boundary, [2]float64{(xs[i] + xs[i+1]) / 2, ys[j]})
+				}
+				if j+1 < gy && !grid[j][i].Same(grid[j+1][i]) {
+					boundary = append(boundary, [2]float64{xs[i], (ys[j] + ys[j+1]) / 2})
+				}
+			}
+		}
+		path := flow.Path{Name: sl.M.Couplings()[sl.X].Name, From: xs[0], To: xs[gx-1], Samples: gx,
+			Point: func(dst []float64, v float64) { copy(dst, sl.Point(v, cy)) }}
+		tcs, err := t.Critical(ctx, path, 1e-5)
+		if err != nil {
+			return solvedMsg{id: id, err: err}
+		}
+		return solvedMsg{id: id, basin: basin, boundary: boundary, tcrits: tcs}
+	}
+}
+
+// phaseRune marks a start by its phase: . disordered, the number of
+// ordered states, ~ a critical phase, ? undecided.
+func phaseRune(p flow.Phase) rune {
+	switch {
+	case p.Undecided || p.Index < 0:
+		return '?'
+	case p.Index == 0:
+		return '~'
+	case p.Index == 1:
+		return '.'
+	case p.Index < 10:
+		return rune('0' + p.Index)
+	}
+	return '#'
 }

@@ -74,6 +74,9 @@ type Model struct {
 	quantity int
 	mapOn    bool
 	qmap     mapMsg
+	// the tensor engine's basin map
+	basin  []Marker
+	tcrits []decimation.TensorCritical
 }
 
 // New returns the explorer on the study the options name.
@@ -151,6 +154,10 @@ func (m *Model) start(what string) (context.Context, int) {
 }
 
 func (m *Model) solve() tea.Cmd {
+	if m.src.tensor != nil {
+		ctx, id := m.start("deciding the phase of every start (tensor renormalization)")
+		return tensorSolveCmd(ctx, id, m.src.tensor, m.slice, m.axX(), m.axY(), m.cursor[1])
+	}
 	ctx, id := m.start("finding fixed points and flow lines")
 	return solveCmd(ctx, id, m.slice, m.axX(), m.axY())
 }
@@ -189,7 +196,11 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 			return m, nil
 		}
 		m.points, m.phases, m.lines, m.bound = msg.points, msg.phases, msg.lines, msg.boundary
+		m.basin, m.tcrits = msg.basin, msg.tcrits
 		m.status = fmt.Sprintf("%d fixed point(s)", len(m.points))
+		if m.src.tensor != nil {
+			m.status = fmt.Sprintf("basin map: the phase each start flows to; %d transition(s) along %s through the cursor", len(m.tcrits), m.ax.Name)
+		}
 		m.render()
 		return m, nil
 	case crossMsg:
@@ -327,6 +338,11 @@ func (m Model) key(msg tea.KeyMsg) (tea.Model, tea.Cmd) {
 		return m, m.recompute()
 	case key.Matches(msg, k.Squeeze):
 		m.toggleSqueeze()
+		return m, m.recompute()
+	case m.src.tensor != nil && (key.Matches(msg, k.Step) || key.Matches(msg, k.Run) || key.Matches(msg, k.Fan) ||
+		key.Matches(msg, k.Thermo) || key.Matches(msg, k.Map) || key.Matches(msg, k.CrossX) || key.Matches(msg, k.CrossY) || key.Matches(msg, k.NextFixed)):
+		m.status = "the tensor scheme has no flow of couplings: the view shows the phase of each start, and the pane the transitions along " + m.ax.Name + " through the cursor (enter recomputes there)"
+	case m.src.tensor != nil && msg.String() == "enter":
 		return m, m.recompute()
 	case key.Matches(msg, k.Step):
 		m.step(1)
@@ -481,6 +497,14 @@ func (m *Model) crossing(horizontal bool) tea.Cmd {
 	return crossCmd(ctx, id, m.phases, p, horizontal)
 }
 
+// legend explains the marks of the plot.
+func (m Model) legend() string {
+	if m.src.tensor != nil {
+		return TensorLegend
+	}
+	return Legend
+}
+
 // render rebuilds the plot frame from the data; View only reads it.
 func (m *Model) render() {
 	pw, ph := m.plotSize()
@@ -504,6 +528,7 @@ func (m *Model) render() {
 		return
 	}
 	p := Plot{AX: m.ax, AY: m.ay}
+	p.Markers = append(p.Markers, m.basin...)
 	if m.show.lines {
 		p.Lines = append(append(p.Lines, m.lines...), m.fan...)
 	}
@@ -563,7 +588,7 @@ func (m Model) View() string {
 	side := m.sideView()
 	body := lipgloss.JoinHorizontal(lipgloss.Top, plot.String(), st.Panel.Width(m.sideWidth()-1).Render(side))
 	axes := st.Dim.Render(trunc(fmt.Sprintf("x: %s   y: %s", m.ax.Label(), m.ay.Label()), max(10, m.width))) + "\n" +
-		st.Dim.Render(trunc(Legend, max(10, m.width)))
+		st.Dim.Render(trunc(m.legend(), max(10, m.width)))
 	if m.mapOn {
 		axes = st.Dim.Render(trunc(fmt.Sprintf("map: %s over the slice, shaded by rank low \" .:-=+*#%%&\" high; blank: not available (Q next quantity, M back)",
 			quantities[m.quantity].name), max(10, m.width))) + "\n"
@@ -618,7 +643,11 @@ func (m Model) statusLine() string {
 	if m.status != "" {
 		left += " | " + m.status
 	}
-	return st.Status.Render(trunc(left, max(10, m.width))) + "\n" + ansi.Truncate(m.help.View(m.keys), max(10, m.width), "")
+	hints := m.help.View(m.keys)
+	if m.src.tensor != nil {
+		hints = "arrows move • enter transitions through the cursor • +/- zoom • p edit parameters • ? help • q quit"
+	}
+	return st.Status.Render(trunc(left, max(10, m.width))) + "\n" + ansi.Truncate(hints, max(10, m.width), "")
 }
 
 func (m Model) helpView() string {

@@ -63,6 +63,10 @@ func (m Model) sideView() string {
 			line(l)
 		}
 	}
+	if m.src.tensor != nil {
+		m.tensorView(line)
+		return b.String()
+	}
 	if m.cross != nil {
 		m.crossView(line)
 		return b.String()
@@ -473,3 +477,29 @@ func (m Model) writeExport(name string) error {
 }
 
 var _ = scenarios.DefaultScenario
+
+// tensorView is the side pane of the tensor engine: what the marks mean
+// and the transitions along the line through the cursor, with the central
+// charge and scaling dimensions read from the coarse tensor.
+func (m Model) tensorView(line func(string)) {
+	st := m.styles
+	t := m.src.tensor
+	line(st.PanelTitle.Render(fmt.Sprintf("%s, chi = %d", strings.ToUpper(t.Method), t.Chi)))
+	line(st.Dim.Render(". disordered  2-9 ordered (states)  ~ critical phase  ? undecided"))
+	line(st.PanelTitle.Render("transitions along " + m.ax.Name + " at " + m.ay.Name + " = " + report.Text(m.cursor[1], 4)))
+	if len(m.tcrits) == 0 {
+		line(st.Dim.Render("none found on the axis range"))
+	}
+	for k, c := range m.tcrits {
+		line(fmt.Sprintf("[%d] %s %s_c = %s", k+1, c.Kind, m.ax.Name, report.Text(c.Crossing.Value, 8)))
+		if c.Have {
+			line(fmt.Sprintf("    c = %s  (step %d)", report.Text(c.Spectrum.C, 5), c.Spectrum.Step))
+			var ds []string
+			for _, x := range c.Spectrum.Dimensions[:min(4, len(c.Spectrum.Dimensions))] {
+				ds = append(ds, report.Text(x, 4))
+			}
+			line("    x = " + strings.Join(ds, ", "))
+			line(fmt.Sprintf("    nu = %s  eta = %s", report.Text(c.Nu, 4), report.Text(c.Eta, 4)))
+		}
+	}
+}

@@ -48,6 +48,9 @@ func kindRune(p flow.FixedPoint) rune {
 	return '+'
 }
 
+// TensorLegend explains the basin map of the tensor engine.
+const TensorLegend = ". disordered  2-9 ordered with that many states  ~ critical phase  ? undecided  : boundary  @ cursor"
+
 // Legend explains the symbols.
 const Legend = "o sink X critical * multicritical # discontinuity + source : boundary @ cursor 0-9 steps"
 

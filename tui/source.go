@@ -33,7 +33,25 @@ type source struct {
 	slice    *scenarios.SliceFile
 	cautions []string
 	engine   bool // a built-in model and scheme (not user formulas)
+	// tensor is the tensor engine, which has no flow: m is then a
+	// stand-in that carries its couplings, and the view is a basin map.
+	tensor *decimation.TensorRG
 }
+
+// tensorMap stands in for the tensor engine where the explorer needs a
+// coupling vector: it has the couplings but no step (Step writes NaN).
+type tensorMap struct{ t *decimation.TensorRG }
+
+func (tm tensorMap) Couplings() []flow.Coupling { return tm.t.Couplings() }
+func (tm tensorMap) Rescale() float64           { return math.Sqrt2 }
+func (tm tensorMap) Dimension() float64         { return 2 }
+func (tm tensorMap) Step(dst, x []float64) float64 {
+	for i := range dst {
+		dst[i] = math.NaN()
+	}
+	return math.NaN()
+}
+func (tm tensorMap) Cautions() []string { return tm.t.Cautions() }
 
 func build(o Options) (*source, error) {
 	s := &source{opts: o, values: map[string]string{}}
@@ -71,11 +89,12 @@ func build(o Options) (*source, error) {
 		if err != nil {
 			return nil, err
 		}
-		if bt.Tensor != nil {
-			return nil, fmt.Errorf("scheme %s has no flow of couplings for the flow view; run 'scalewalk critical --scheme %s' or 'scalewalk fixed --scheme %s'", o.Scheme, o.Scheme, o.Scheme)
-		}
 		ms, ss := bt.ModelSpec, bt.SchemeSpec
 		s.m, s.model, s.scheme = bt.Map, ms.Name, ss.Name
+		if bt.Tensor != nil {
+			s.tensor = bt.Tensor
+			s.m = tensorMap{bt.Tensor}
+		}
 		s.engine = true
 		s.params = bt.Params()
 		s.title = ms.Name + " with " + ss.Name

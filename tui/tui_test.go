@@ -487,3 +487,53 @@ func TestMapView(t *testing.T) {
 		t.Errorf("the map view does not name its quantity:\n%s", v)
 	}
 }
+
+// The tensor scheme opens as a basin map: on the zero-field row the starts
+// above the critical coupling are ordered with two states and those below
+// disordered (the square Ising K_c = ln(1 + √2)/2, Kramers and Wannier
+// 1941, lies between them), the side pane names the transition with its
+// central charge, and flow keys say they do not apply.
+func TestTensorBasinMap(t *testing.T) {
+	m, err := New(Options{Model: "ising", Scheme: "tensor", Set: map[string]string{"chi": "8"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mm, _ := m.Update(tea.WindowSizeMsg{Width: 150, Height: 40})
+	m = mm.(Model)
+	ctx, id := m.start("test")
+	msg := m.solve()
+	_ = ctx
+	res := msg().(solvedMsg)
+	res.id = id + 1 // solve started a newer request
+	mm, _ = m.Update(res)
+	m = mm.(Model)
+	kc := math.Log(1+math.Sqrt2) / 2
+	var below, above int
+	for _, b := range m.basin {
+		if b.Y != 0 {
+			continue
+		}
+		switch {
+		case b.X < kc-0.05 && b.Rune == '.':
+			below++
+		case b.X > kc+0.05 && b.Rune == '2':
+			above++
+		}
+	}
+	if below < 5 || above < 5 {
+		t.Errorf("zero-field row: %d disordered below K_c, %d ordered above; basin %v", below, above, m.basin)
+	}
+	if len(m.tcrits) != 1 || math.Abs(m.tcrits[0].Crossing.Value-kc) > 0.01 {
+		t.Errorf("transitions through the cursor: %+v", m.tcrits)
+	}
+	v := m.View()
+	for _, want := range []string{"transitions along K", "c = ", TensorLegend[:20]} {
+		if !strings.Contains(v, want) {
+			t.Errorf("view lacks %q", want)
+		}
+	}
+	m = press(m, " ")
+	if !strings.Contains(m.View(), "no flow of couplings") {
+		t.Error("space did not say the tensor scheme has no flow")
+	}
+}
