@@ -373,27 +373,37 @@ func hotrgStep(T *tensor4, chi int) *tensor4 {
 	} else {
 		k = len(vl)
 	}
-	// X[(k r1 d), (l2 l′)] = Σ_{l1} T[l1,k,r1,d] U[(l1 l2), l′].
-	tp := make([]float64, len(T.v))
-	permute(tp, T.v, []int{D, E, D, E}, []int{1, 2, 3, 0}) // [k, r1, d, l1]
-	X := make([]float64, E*D*E*D*k)
-	gemm(false, false, E*D*E, D*k, D, tp, U, X)
-	// → [(l′ r1 d), (l2 k)].
-	xp := make([]float64, len(X))
-	permute(xp, X, []int{E, D, E, D, k}, []int{4, 1, 2, 3, 0})
-	// T as [(l2 k), (u r2)].
-	tk := make([]float64, len(T.v))
+	// The update T′[l′,u,r′,d] = Σ U[(l1 l2),l′] T[l1,k,r1,d] T[l2,u,r2,k]
+	// U[(r1 r2),r′], one l′ at a time so that no χ⁵ array is held: per l′,
+	// X[l2, (k r1 d)] = Σ_{l1} U[(l1 l2), l′] T[l1, (k r1 d)] (χ⁵), then
+	// Y[(r1 d), (u r2)] = Σ_{l2,k} X T (the χ⁶ part of the χ⁷ whole), then
+	// Z[(u d), r′] = Σ_{r1 r2} Y U.
+	tk := make([]float64, len(T.v)) // T as [(l2 k), (u r2)]
 	permute(tk, T.v, []int{D, E, D, E}, []int{0, 3, 1, 2})
-	// Y[(l′ r1 d), (u r2)]: the χ⁷ contraction.
-	Y := make([]float64, k*D*E*E*D)
-	gemm(false, false, k*D*E, E*D, D*E, xp, tk, Y)
-	// → [(l′ u d), (r1 r2)], then × U → [(l′ u d), r′] → [l′, u, r′, d].
-	yp := make([]float64, len(Y))
-	permute(yp, Y, []int{k, D, E, E, D}, []int{0, 3, 2, 1, 4})
-	Z := make([]float64, k*E*E*k)
-	gemm(false, false, k*E*E, k, D*D, yp, U, Z)
-	out := &tensor4{d: [4]int{k, E, k, E}, v: make([]float64, len(Z))}
-	permute(out.v, Z, []int{k, E, E, k}, []int{0, 1, 3, 2})
+	ulp := make([]float64, D*D)   // U[(l1 l2), l′] at one l′, as [l1, l2]
+	x := make([]float64, D*E*D*E) // [l2, (k r1 d)]
+	xp := make([]float64, len(x)) // [(r1 d), (l2 k)]
+	y := make([]float64, D*E*E*D) // [(r1 d), (u r2)]
+	yp := make([]float64, len(y)) // [(u d), (r1 r2)]
+	z := make([]float64, E*E*k)   // [(u d), r′]
+	out := &tensor4{d: [4]int{k, E, k, E}, v: make([]float64, k*E*k*E)}
+	for lp := 0; lp < k; lp++ {
+		for a := 0; a < D*D; a++ {
+			ulp[a] = U[a*k+lp]
+		}
+		gemm(true, false, D, E*D*E, D, ulp, T.v, x)          // [l2, (k r1 d)]
+		permute(xp, x, []int{D, E, D, E}, []int{2, 3, 0, 1}) // [r1, d, l2, k]
+		gemm(false, false, D*E, E*D, D*E, xp, tk, y)         // [(r1 d), (u r2)]
+		permute(yp, y, []int{D, E, E, D}, []int{2, 1, 0, 3}) // [u, d, r1, r2]
+		gemm(false, false, E*E, k, D*D, yp, U, z)            // [(u d), r′]
+		for u := 0; u < E; u++ {
+			for d := 0; d < E; d++ {
+				for rp := 0; rp < k; rp++ {
+					out.v[((lp*E+u)*k+rp)*E+d] = z[(u*E+d)*k+rp]
+				}
+			}
+		}
+	}
 	return out
 }
 
