@@ -150,7 +150,7 @@ func (t *TensorRG) Thermo(ctx context.Context, x []float64, metric []int) flow.T
 				p.Metric[a][b] = hess[at(i)][at(j)]
 			}
 		}
-		p.Det = det2(p.Metric)
+		p.Det = flow.Det(p.Metric)
 	}
 	p.Flags = append(p.Flags,
 		fmt.Sprintf("derivatives by central differences of the tensor free energy, step %g relative", TensorStep),
@@ -176,17 +176,4 @@ func onlyFieldZero(cs []flow.Coupling, x []float64) bool {
 		}
 	}
 	return true
-}
-
-// det2 is the determinant of a small matrix by cofactors (at most 3 × 3).
-func det2(a [][]float64) float64 {
-	switch len(a) {
-	case 1:
-		return a[0][0]
-	case 2:
-		return a[0][0]*a[1][1] - a[0][1]*a[1][0]
-	case 3:
-		return a[0][0]*(a[1][1]*a[2][2]-a[1][2]*a[2][1]) - a[0][1]*(a[1][0]*a[2][2]-a[1][2]*a[2][0]) + a[0][2]*(a[1][0]*a[2][1]-a[1][1]*a[2][0])
-	}
-	return math.NaN()
 }

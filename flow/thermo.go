@@ -660,7 +660,7 @@ func Thermo(m Map, x []float64, metric []int) (p ThermoValues) {
 			p.Metric[a][b] = dm.Hess[a][b] * perSite
 		}
 	}
-	p.Det = det(p.Metric)
+	p.Det = Det(p.Metric)
 	if k >= 2 {
 		diag := 1.0
 		for a := 0; a < k; a++ {
@@ -808,7 +808,9 @@ func maxAbs3(t [][][]float64) float64 {
 	return m
 }
 
-func det(a [][]float64) float64 {
+// Det is the determinant of a metric of at most three couplings, by
+// cofactors; NaN for larger ones.
+func Det(a [][]float64) float64 {
 	switch len(a) {
 	case 1:
 		return a[0][0]

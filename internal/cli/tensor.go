@@ -175,33 +175,9 @@ func runThermoTensor(ctx context.Context, o *options, b *built, along, grid, at,
 	if err != nil {
 		return err
 	}
-	var pts [][]float64
-	var ts []float64
-	temp := false
-	if grid != "" {
-		if pts, err = gridPoints(t, grid, atv); err != nil {
-			return err
-		}
-	} else {
-		if along == "" {
-			return usagef("thermo needs --along NAME=FROM:TO[:N] or --grid A=FROM:TO:N,B=FROM:TO:N")
-		}
-		ar, err := parseRange("--along", along, false)
-		if err != nil {
-			return err
-		}
-		p, isT, err := pathFor(t, ar, atv, 100)
-		if err != nil {
-			return err
-		}
-		temp = isT
-		for k := 0; k < p.Samples; k++ {
-			v := p.From + (p.To-p.From)*float64(k)/float64(p.Samples-1)
-			x := make([]float64, len(t.Couplings()))
-			p.Point(x, v)
-			pts = append(pts, x)
-			ts = append(ts, v)
-		}
+	pts, ts, _, temp, err := thermoInputs(t, along, grid, atv, nil)
+	if err != nil {
+		return err
 	}
 	rows := tensorThermoPoints(ctx, t, pts, mi)
 	if ctx.Err() != nil {

@@ -73,39 +73,9 @@ disordered sink of bond moving) the value is null with a flag.`,
 			if err != nil {
 				return err
 			}
-			var pts [][]float64
-			var ts []float64
-			var path *flow.Path
-			temp := false
-			if grid != "" {
-				pts, err = gridPoints(b.m, grid, atv)
-				if err != nil {
-					return err
-				}
-			} else {
-				if along == "" {
-					return usagef("thermo needs --along NAME=FROM:TO[:N] or --grid A=FROM:TO:N,B=FROM:TO:N")
-				}
-				ar, err := parseRange("--along", along, false)
-				if err != nil {
-					return err
-				}
-				p, isT, err := pathFor(b.m, ar, atv, 100)
-				if err != nil {
-					return err
-				}
-				if err := checkPath(b.m, p); err != nil {
-					return err
-				}
-				temp = isT
-				path = &p
-				for k := 0; k < p.Samples; k++ {
-					v := p.From + (p.To-p.From)*float64(k)/float64(p.Samples-1)
-					x := make([]float64, len(b.m.Couplings()))
-					p.Point(x, v)
-					pts = append(pts, x)
-					ts = append(ts, v)
-				}
+			pts, ts, path, temp, err := thermoInputs(b.m, along, grid, atv, func(p flow.Path) error { return checkPath(b.m, p) })
+			if err != nil {
+				return err
 			}
 			rows := thermoPoints(cmd.Context(), b.m, pts, mi)
 			for k := range rows {
@@ -131,6 +101,40 @@ disordered sink of bond moving) the value is null with a flag.`,
 	o.addModelFlags(c.Flags())
 	o.addFormatFlags(c.Flags())
 	return c
+}
+
+// thermoInputs lays out the points of a thermo run: a grid, or the
+// samples of a path (returned too, with whether it is a temperature path);
+// check vets the path.
+func thermoInputs(c flow.Coupled, along, grid string, atv map[string]float64, check func(flow.Path) error) (pts [][]float64, ts []float64, path *flow.Path, temp bool, err error) {
+	if grid != "" {
+		pts, err = gridPoints(c, grid, atv)
+		return pts, nil, nil, false, err
+	}
+	if along == "" {
+		return nil, nil, nil, false, usagef("thermo needs --along NAME=FROM:TO[:N] or --grid A=FROM:TO:N,B=FROM:TO:N")
+	}
+	ar, err := parseRange("--along", along, false)
+	if err != nil {
+		return nil, nil, nil, false, err
+	}
+	p, isT, err := pathFor(c, ar, atv, 100)
+	if err != nil {
+		return nil, nil, nil, false, err
+	}
+	if check != nil {
+		if err := check(p); err != nil {
+			return nil, nil, nil, false, err
+		}
+	}
+	for k := 0; k < p.Samples; k++ {
+		v := p.From + (p.To-p.From)*float64(k)/float64(p.Samples-1)
+		x := make([]float64, len(c.Couplings()))
+		p.Point(x, v)
+		pts = append(pts, x)
+		ts = append(ts, v)
+	}
+	return pts, ts, &p, isT, nil
 }
 
 func metricIndices(m flow.Coupled, spec string) ([]int, error) {
