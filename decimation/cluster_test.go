@@ -300,3 +300,23 @@ func TestBlockSpinMapContract(t *testing.T) {
 		}
 	}
 }
+
+// A periodic chain cluster (a ring of three blocks of two sites) has no
+// boundary: decimation on it is exact, so it must reproduce the chain
+// engine (Nelson and Fisher 1975) with zero closure error, constant
+// included.
+func TestClusterPeriodicRingIsExact(t *testing.T) {
+	c := mustCluster(t, NewIsing(), Linear, 2, Rule{Kind: "decimation"}, []string{"K", "h"}, ClusterSpec{Blocks: 3, Periodic: true})
+	ch := mustChain(t, NewIsing(), 2)
+	got, want := make([]float64, 2), make([]float64, 2)
+	for _, x := range [][]float64{{0.4, 0.1}, {-0.8, 0.3}} {
+		g := c.Step(got, x)
+		ge := ch.Step(want, x)
+		if !near(got[0], want[0], 1e-12) || !near(got[1], want[1], 1e-12) || !near(g, ge, 1e-12) {
+			t.Errorf("x=%v: ring %v g=%.15g, chain %v g=%.15g", x, got, g, want, ge)
+		}
+		if cl := c.Closure(x); cl > 1e-12 {
+			t.Errorf("x=%v: closure %g on a ring", x, cl)
+		}
+	}
+}
