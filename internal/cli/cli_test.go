@@ -519,3 +519,50 @@ func TestCompareJSON(t *testing.T) {
 		}
 	}
 }
+
+// The tensor scheme's contracts: fixed --json writes a critical point with
+// critical_coupling, central_charge, scaling_dimensions, y, nu, eta and
+// null eigenvalues; critical --json has no controlling fixed point and a
+// kind from the plateau of X. K_c of the square Ising model within 1 % at
+// chi = 8 (Kramers and Wannier 1941); c within 15 % of 1/2 (Cardy 1986,
+// from memory) at so small a chi.
+func TestTensorJSON(t *testing.T) {
+	code, out, errOut := run("fixed", "--model", "ising", "--scheme", "tensor", "--set", "chi=8", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	var doc struct {
+		FixedPoints []map[string]any `json:"fixed_points"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil || len(doc.FixedPoints) != 1 {
+		t.Fatalf("%v: %s", err, out)
+	}
+	fp := doc.FixedPoints[0]
+	kc := math.Log(1+math.Sqrt2) / 2
+	if fp["kind"] != "critical" || fp["eigenvalues"] != nil || math.Abs(fp["critical_coupling"].(float64)-kc) > 0.01*kc ||
+		math.Abs(fp["central_charge"].(float64)-0.5) > 0.075 {
+		t.Errorf("fixed point %v", fp)
+	}
+	for _, k := range []string{"scaling_dimensions", "y", "exponents", "spectrum_step"} {
+		if _, ok := fp[k]; !ok {
+			t.Errorf("fixed point lacks %s", k)
+		}
+	}
+	code, out, errOut = run("critical", "--model", "ising", "--scheme", "tensor", "--set", "chi=8", "--along", "K=0.3:0.6", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	var cd struct {
+		Transitions []map[string]any `json:"transitions"`
+	}
+	if err := json.Unmarshal([]byte(out), &cd); err != nil || len(cd.Transitions) != 1 {
+		t.Fatalf("%v: %s", err, out)
+	}
+	tr := cd.Transitions[0]
+	if v, ok := tr["controlling_fixed_point"]; !ok || v != nil || tr["kind"] != "continuous" {
+		t.Errorf("transition %v", tr)
+	}
+	if code, _, errOut := run("trace", "--scheme", "tensor", "--from", "K=0.3"); code != 2 || !strings.Contains(errOut, "has none") {
+		t.Errorf("trace on tensor: exit %d, %q", code, errOut)
+	}
+}
