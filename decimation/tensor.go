@@ -497,7 +497,8 @@ func (t *TensorRG) Degeneracies(ctx context.Context, x []float64, steps int) ([]
 
 // Phase decides the phase x flows to from the degeneracy X of the coarse
 // tensor, read at the first (square) step where X comes within Tol of an
-// integer and moved by less than Tol over the two previous square steps: 1 is
+// integer and moved by less than Tol since the previous square step (the
+// two previous ones for the clock model's slow drifts): 1 is
 // the disordered phase, n ≥ 2 an ordered phase with n
 // states. The decision is taken at once, since a degenerate ordered tensor
 // is unstable to round-off symmetry breaking and drifts back to X = 1 after
@@ -514,13 +515,16 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 		}
 		X := T.degeneracy()
 		r := math.Round(X)
-		// Within Tol of an integer and settled there for two square steps
-		// (a flow passing an integer on its way elsewhere moves on).
+		// Within Tol of an integer and settled there (a flow passing an
+		// integer on its way elsewhere moves by more than Tol per step).
 		// With a critical phase (clock, q >= 5) the flow leaving the
 		// plateau drifts slowly past intermediate integers: only 1 and q
 		// decide there.
 		allowed := !t.CriticalPhase || r == 1 || int(r) == t.q
-		if allowed && r >= 1 && math.Abs(X-r) < t.Tol && math.Abs(X-prev) < t.Tol && math.Abs(prev-prev2) < t.Tol {
+		// settled: moved by less than Tol since the previous square step,
+		// and, with a critical phase (slow drifts), the one before too.
+		settled := math.Abs(X-prev) < t.Tol && (!t.CriticalPhase || math.Abs(prev-prev2) < t.Tol)
+		if allowed && r >= 1 && math.Abs(X-r) < t.Tol && settled {
 			ph.Index, ph.Undecided = int(r), false
 			if r == 1 {
 				ph.Label = "disordered (X -> 1)"
