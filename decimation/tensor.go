@@ -524,6 +524,13 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 		// settled: moved by less than Tol since the previous square step,
 		// and, with a critical phase (slow drifts), the one before too.
 		settled := math.Abs(X-prev) < t.Tol && (!t.CriticalPhase || math.Abs(prev-prev2) < t.Tol)
+		if r > float64(t.q) && math.Abs(X-r) < t.Tol && settled {
+			// More than the q states of a spin: the coexistence of the
+			// ordered states with the disordered one, met at a first-order
+			// transition; not a phase.
+			ph.Label = fmt.Sprintf("coexistence (X -> %d): at a first-order transition", int(r))
+			return false
+		}
 		if allowed && r >= 1 && math.Abs(X-r) < t.Tol && settled {
 			ph.Index, ph.Undecided = int(r), false
 			if r == 1 {
@@ -574,6 +581,7 @@ func sitesText(steps int) string {
 // so c = (4/π)(2 ln λ_0(1) − ln λ_0(2)) and x_i = (1/π) ln(λ_0(2)/λ_i(2)).
 type Spectrum struct {
 	Step       int       // coarse-graining steps taken
+	X          float64   // the degeneracy of the coarse tensor there
 	C          float64   // central charge
 	Dimensions []float64 // scaling dimensions x_i > 0, lowest first
 }
@@ -646,30 +654,41 @@ func (t *TensorRG) Spectra(ctx context.Context, x []float64, steps, n int) ([]Sp
 			return true
 		}
 		if c, dims, ok := T.spectrum(n); ok {
-			out = append(out, Spectrum{Step: k, C: c, Dimensions: dims})
+			out = append(out, Spectrum{Step: k, X: T.degeneracy(), C: c, Dimensions: dims})
 		}
 		return true
 	})
 	return out, err
 }
 
-// Stationary returns the spectrum at the step where it changes least from
-// the previous square step (the coarse tensor nearest its fixed point;
-// plain TRG drifts away from it after about ten steps), judged on c and
-// the two lowest dimensions, skipping the first minSkip entries.
+// Stationary returns the spectrum at the step where it first stops
+// changing from the previous square step (the coarse tensor nearest its
+// fixed point; plain TRG drifts away from it after about ten steps), judged
+// on c and the two lowest dimensions, skipping the first minSkip entries
+// and every step where the flow has left the critical point (X within 0.05
+// of a whole number: a trivial fixed point, whose spectrum is stationary
+// too).
 func Stationary(sp []Spectrum, minSkip int) (Spectrum, bool) {
+	change := func(i int) float64 {
+		a, b := sp[i], sp[i-1]
+		if len(a.Dimensions) < 2 || len(b.Dimensions) < 2 || math.Abs(a.X-math.Round(a.X)) < 0.05 {
+			return math.Inf(1)
+		}
+		return math.Abs(a.C-b.C) + math.Abs(a.Dimensions[0]-b.Dimensions[0]) + math.Abs(a.Dimensions[1]-b.Dimensions[1])
+	}
+	// The first local minimum of the change: at a small chi the flow
+	// creeps on towards a fixed point of the truncation, whose ever
+	// smaller changes would otherwise win.
 	best, bi := math.Inf(1), -1
 	for i := max(1, minSkip); i < len(sp); i++ {
-		a, b := sp[i], sp[i-1]
-		if len(a.Dimensions) < 2 || len(b.Dimensions) < 2 {
-			continue
-		}
-		d := math.Abs(a.C-b.C) + math.Abs(a.Dimensions[0]-b.Dimensions[0]) + math.Abs(a.Dimensions[1]-b.Dimensions[1])
+		d := change(i)
 		if d < best {
 			best, bi = d, i
+		} else if bi >= 0 && !math.IsInf(best, 1) {
+			break
 		}
 	}
-	if bi < 0 {
+	if bi < 0 || math.IsInf(best, 1) {
 		return Spectrum{}, false
 	}
 	return sp[bi], true

@@ -112,6 +112,7 @@ func (t *TensorRG) Thermo(ctx context.Context, x []float64, metric []int) flow.T
 		p.U = -xg / x[e]
 	}
 	p.C = xx
+	orderedBoundary := false
 	if field >= 0 {
 		p.M, p.Chi = grad[at(field)], hess[at(field)][at(field)]
 		if x[field] == 0 && onlyFieldZero(cs, x) {
@@ -134,6 +135,7 @@ func (t *TensorRG) Thermo(ctx context.Context, x []float64, metric []int) flow.T
 				p.Chi = nan
 				p.Flags = append(p.Flags, "ordered phase at h = 0 (a first-order boundary): magnetization as the one-sided limit h -> 0+; susceptibility not given")
 				if slices.Contains(metric, field) {
+					orderedBoundary = true
 					p.Metric, p.Det = nil, nan
 					p.Flags = append(p.Flags, "metric: the field's second derivative does not exist on the first-order boundary h = 0")
 				}
@@ -142,7 +144,7 @@ func (t *TensorRG) Thermo(ctx context.Context, x []float64, metric []int) flow.T
 			}
 		}
 	}
-	if len(metric) > 0 {
+	if len(metric) > 0 && !orderedBoundary {
 		p.Metric = make([][]float64, len(metric))
 		for a, i := range metric {
 			p.Metric[a] = make([]float64, len(metric))

@@ -49,7 +49,7 @@ func kindRune(p flow.FixedPoint) rune {
 }
 
 // TensorLegend explains the basin map of the tensor engine.
-const TensorLegend = ". disordered  2-9 ordered with that many states  ~ critical phase  ? undecided  : boundary  @ cursor"
+const TensorLegend = ". disordered or field-polarized  2-9 ordered with that many states  ~ critical phase  ? undecided  : boundary  @ cursor"
 
 // Legend explains the symbols.
 const Legend = "o sink X critical * multicritical # discontinuity + source : boundary @ cursor 0-9 steps"

@@ -243,6 +243,9 @@ truncation error falling geometrically; two: their difference as the error).`,
 			if err != nil {
 				return err
 			}
+			if chis != "" && b.tensor == nil {
+				return usagef("--chis repeats a tensor search at several bond dimensions; it needs --scheme tensor")
+			}
 			if b.tensor != nil {
 				if grid != "" || sweep != "" {
 					return usagef("--grid and --sweep follow a flow of couplings; the tensor scheme has none: give --along")
@@ -253,6 +256,9 @@ truncation error falling geometrically; two: their difference as the error).`,
 				ar, err := parseRange("--along", along, false)
 				if err != nil {
 					return err
+				}
+				if i := flow.Index(b.tensor, ar.name); i >= 0 && !b.tensor.Couplings()[i].Symmetric {
+					return usagef("--along %s: the tensor scheme reads the phase from the degeneracy of the coarse tensor, which does not tell the two field-polarized states apart; give a path along a symmetric coupling or T (below T_c the first-order line is %s = 0)", ar.name, ar.name)
 				}
 				if !cmd.Flags().Changed("samples") {
 					samples = 8

@@ -66,6 +66,9 @@ func nanf() float64 { var z float64; return z / z }
 // exchange from 0.05 to 3 at zero field, and what the coarse tensor says
 // of each.
 func runFixedTensor(ctx context.Context, o *options, b *built, stdout io.Writer) error {
+	if o.csv {
+		return usagef("fixed --scheme tensor writes text or --json")
+	}
 	t := b.tensor
 	e := exchangeIndex(t)
 	if e < 0 {
@@ -91,9 +94,6 @@ func runFixedTensor(ctx context.Context, o *options, b *built, stdout io.Writer)
 	}
 	if o.json {
 		return writeJSON(stdout, report.TensorFixed(doc))
-	}
-	if o.csv {
-		return usagef("fixed --scheme tensor writes text or --json")
 	}
 	return report.TensorFixedText(stdout, doc)
 }
@@ -207,7 +207,8 @@ func runCriticalChis(ctx context.Context, o *options, chis string, along rangeSp
 	if len(list) < 2 {
 		return usagef("--chis %q: give at least two bond dimensions", chis)
 	}
-	var rows []report.ChiRow
+	// Build every chi first, so a bad one is refused before any runs.
+	var engines []*built
 	for _, chi := range list {
 		o2 := *o
 		o2.set = append(append([]string{}, o.set...), "chi="+strconv.Itoa(chi))
@@ -216,6 +217,11 @@ func runCriticalChis(ctx context.Context, o *options, chis string, along rangeSp
 		if err != nil {
 			return err
 		}
+		engines = append(engines, b)
+	}
+	var rows []report.ChiRow
+	for k, b := range engines {
+		chi := list[k]
 		path, _, err := pathFor(b.tensor, along, at, samples)
 		if err != nil {
 			return err

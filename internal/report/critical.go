@@ -242,6 +242,20 @@ func (d CriticalDoc) notes() []string {
 	return n
 }
 
+// tensorDigits caps the digits a tensor-engine crossing is printed to: its
+// truncation error (about 1e-4 to 1e-3 in K_c at chi = 8 to 32), not the
+// bisection tolerance, limits it.
+const tensorDigits = 5
+
+// digits is how many significant digits the crossing value supports.
+func (d CriticalDoc) digits(v float64) int {
+	n := Digits(v, d.Tolerance)
+	if len(d.Tensor) > 0 && n > tensorDigits {
+		return tensorDigits
+	}
+	return n
+}
+
 func (d CriticalDoc) tensorAt(c flow.Crossing) *TensorTransition {
 	for k, x := range d.Crossings {
 		if x.Value == c.Value && k < len(d.Tensor) {
@@ -256,7 +270,7 @@ func (d CriticalDoc) transition(c flow.Crossing) TransitionJSON {
 		Coupling: d.Path.Name, Value: Num(c.Value), Bracket: [2]Num{Num(c.Bracket[0]), Num(c.Bracket[1])},
 		Kind: c.Kind.String(), Point: map[string]Num{},
 		Phases: map[string]string{"below": c.Below.Label, "above": c.Above.Label},
-		Order:  order(d.Meta), Digits: Digits(c.Value, d.Tolerance), Refined: c.Refined,
+		Order:  order(d.Meta), Digits: d.digits(c.Value), Refined: c.Refined,
 	}
 	x := make([]float64, len(d.Map.Couplings()))
 	d.Path.Point(x, c.Value)
@@ -403,7 +417,7 @@ func CriticalText(w io.Writer, d CriticalDoc) error {
 		ordText = " [order " + ord + "]"
 	}
 	for k, c := range d.Crossings {
-		dig := Digits(c.Value, d.Tolerance)
+		dig := d.digits(c.Value)
 		if c.Kind == flow.OneBodyArtefact {
 			fmt.Fprintf(&b, "\n[%d] not a phase transition: %s\n", k+1, c.Kind)
 		} else {

@@ -97,7 +97,7 @@ func TensorFixedText(w io.Writer, d TensorFixedDoc) error {
 			b.WriteString("    no spectrum read (not a continuous transition)\n")
 			continue
 		}
-		fmt.Fprintf(&b, "    central charge c = %s (read after %d steps, where the spectrum changes least)\n", Text(p.C, 6), p.Step)
+		fmt.Fprintf(&b, "    central charge c = %s (read after %d steps, where the spectrum first stops changing)\n", Text(p.C, 6), p.Step)
 		b.WriteString("    scaling dimensions x (y = 2 - x):\n")
 		for _, x := range p.Dimensions {
 			fmt.Fprintf(&b, "      %-10s %s\n", Text(x, 6), Text(2-x, 6))
