@@ -524,6 +524,14 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 		// settled: moved by less than Tol since the previous square step,
 		// and, with a critical phase (slow drifts), the one before too.
 		settled := math.Abs(X-prev) < t.Tol && (!t.CriticalPhase || math.Abs(prev-prev2) < t.Tol)
+		// A model with a critical phase loses its q-fold order to the
+		// truncation within a few steps of reaching it: reaching q at all
+		// decides.
+		if t.CriticalPhase && math.Abs(X-float64(t.q)) < t.Tol {
+			ph.Index, ph.Undecided = t.q, false
+			ph.Label = fmt.Sprintf("ordered, %d states (X -> %d)", t.q, t.q)
+			return false
+		}
 		if r > float64(t.q) && math.Abs(X-r) < t.Tol && settled {
 			// More than the q states of a spin: the coexistence of the
 			// ordered states with the disordered one, met at a first-order
