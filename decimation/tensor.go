@@ -720,7 +720,8 @@ type TensorCritical struct {
 // TransitionKind reads the kind of a transition at x from the degeneracy
 // X of the coarse tensor: at a continuous transition X holds a non-integer
 // plateau for several square steps; at a first-order one it goes straight
-// to an integer (a phase, or the coexistence of several).
+// to an integer (a phase, or the coexistence of several); a flow that
+// drifts without either is of unknown kind at this chi.
 func (t *TensorRG) TransitionKind(ctx context.Context, x []float64) (flow.TransitionKind, float64, error) {
 	xs, err := t.Degeneracies(ctx, x, 24)
 	if err != nil {
@@ -745,10 +746,27 @@ func (t *TensorRG) TransitionKind(ctx context.Context, x []float64) (flow.Transi
 			run, sum = 0, 0
 		}
 	}
-	if best >= 3 {
+	// Three square steps on the plateau; two for HOTRG, whose square steps
+	// are every other step.
+	need := 3
+	if t.Method == "hotrg" {
+		need = 2
+	}
+	if best >= need {
 		return flow.Continuous, bestSum / float64(best), nil
 	}
-	return flow.FirstOrder, math.NaN(), nil
+	// First order: X at a whole number (a phase, or the coexistence of
+	// several) within the first few square steps. Otherwise the flow
+	// drifts without a plateau and the kind is not decided at this chi.
+	for i, v := range sq {
+		r := math.Round(v)
+		if math.Abs(v-r) < 0.05 && (r > float64(t.q) || i < 3 && r >= 2) {
+			// More than q: the coexistence of the ordered states with the
+			// disordered one, found only at a first-order transition.
+			return flow.FirstOrder, math.NaN(), nil
+		}
+	}
+	return flow.UnknownKind, math.NaN(), nil
 }
 
 // Critical locates every transition on the path by bisection on the phase

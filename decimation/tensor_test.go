@@ -410,3 +410,26 @@ func TestTensorTRGExactSmallTorus(t *testing.T) {
 		}
 	}
 }
+
+// The eight-state Potts model orders by a first-order transition on the
+// square lattice at K_c = ln(1 + √8) (Baxter 1973; Wu, Rev. Mod. Phys. 54,
+// 235 (1982)): the bisection meets the coexistence of the nine states (X
+// near q + 1) and stops there, and the kind is first order; K_c within
+// 1 % at chi = 16 (Levin–Nave).
+func TestTensorPottsFirstOrder(t *testing.T) {
+	tr := mustTensor(t, mustPotts(t, 8), "trg", 16)
+	path := flow.Path{Name: "K", From: 1.2, To: 1.5, Samples: 4, Point: func(dst []float64, v float64) {
+		for i := range dst {
+			dst[i] = 0
+		}
+		dst[0] = v
+	}}
+	tcs, err := tr.Critical(context.Background(), path, 1e-5)
+	if err != nil || len(tcs) != 1 {
+		t.Fatalf("%v, %v", tcs, err)
+	}
+	exact := math.Log(1 + math.Sqrt(8))
+	if c := tcs[0]; c.Kind != flow.FirstOrder || math.Abs(c.Crossing.Value-exact) > 0.01*exact {
+		t.Errorf("K_c = %.5f (exact %.5f), kind %v", c.Crossing.Value, exact, c.Kind)
+	}
+}

@@ -476,8 +476,10 @@ func CriticalText(w io.Writer, d CriticalDoc) error {
 			}
 			if !math.IsNaN(tt.Plateau) {
 				fmt.Fprintf(&b, "    degeneracy X holds %s at the transition (a continuous transition)\n", Text(tt.Plateau, 4))
-			} else {
+			} else if c.Kind == flow.FirstOrder {
 				b.WriteString("    degeneracy X goes straight to a whole number at the transition (first order)\n")
+			} else {
+				b.WriteString("    degeneracy X drifts without a plateau at the transition: the kind is not decided at this chi\n")
 			}
 			if !math.IsNaN(tt.C) {
 				var ds []string
