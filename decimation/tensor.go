@@ -98,6 +98,72 @@ func (t *TensorRG) Model() *Model { return t.model }
 type tensor4 struct {
 	d [4]int
 	v []float64
+	// g, when set, holds for each leg the matrix by which the generator of
+	// the model's cyclic symmetry acts on it (HOTRG on the clock model):
+	// the tensor is projected onto its invariant part after every step.
+	g [4][]float64
+}
+
+// applyLeg multiplies leg a of T by the matrix m (rows: new index).
+func (T *tensor4) applyLeg(a int, m []float64) *tensor4 {
+	perm := []int{a}
+	for b := 0; b < 4; b++ {
+		if b != a {
+			perm = append(perm, b)
+		}
+	}
+	tp := make([]float64, len(T.v))
+	nd := permute(tp, T.v, T.d[:], perm)
+	rest := len(T.v) / nd[0]
+	prod := make([]float64, len(T.v))
+	gemm(false, false, nd[0], rest, nd[0], m, tp, prod)
+	inv := make([]int, 4)
+	for i, p := range perm {
+		inv[p] = i
+	}
+	out := &tensor4{d: T.d, v: make([]float64, len(T.v)), g: T.g}
+	permute(out.v, prod, nd, inv)
+	return out
+}
+
+// symmetrize projects T onto the part invariant under its generator,
+// (1/q) Σ_j g^j T, with g acting on all four legs at once.
+func (T *tensor4) symmetrize(q int) {
+	if T.g[0] == nil {
+		return
+	}
+	acc := append([]float64(nil), T.v...)
+	cur := T
+	for j := 1; j < q; j++ {
+		for a := 0; a < 4; a++ {
+			cur = cur.applyLeg(a, T.g[a])
+		}
+		for i, v := range cur.v {
+			acc[i] += v
+		}
+	}
+	for i := range acc {
+		acc[i] /= float64(q)
+	}
+	T.v = acc
+}
+
+// kronAction returns Uᵀ (G ⊗ G) U, the generator on the merged leg whose
+// isometry is U (D² × k) when each of the two merged legs carries G (D × D).
+func kronAction(G, U []float64, D, k int) []float64 {
+	// (G ⊗ G) U: U as [l1, (l2 c)] → G·U → [a, l2, c] → [l2, (a c)] → G·
+	// → [b, a, c] → [(a b), c].
+	t1 := make([]float64, D*D*k)
+	gemm(false, false, D, D*k, D, G, U, t1)
+	t2 := make([]float64, len(t1))
+	permute(t2, t1, []int{D, D, k}, []int{1, 0, 2})
+	t3 := make([]float64, len(t1))
+	gemm(false, false, D, D*k, D, G, t2, t3)
+	t4 := make([]float64, len(t1))
+	permute(t4, t3, []int{D, D, k}, []int{1, 0, 2})
+	out := make([]float64, k*k)
+	gemm(true, false, k, k, D*D, U, t4, out)
+	return out
 }
 
 func (t *tensor4) at(l, u, r, d int) float64 {
@@ -195,8 +261,28 @@ func (t *TensorRG) initial(x []float64) (*tensor4, float64, error) {
 			}
 		}
 	}
+	// The clock model (with its critical phase) keeps its cyclic symmetry
+	// exactly under HOTRG: with a circulant bond matrix the symmetric root
+	// is circulant, so each leg turns with the cyclic shift of the states.
+	if t.CriticalPhase && t.Method == "hotrg" && psd && symmetricPoint(t.cs, x) {
+		P := make([]float64, q*q)
+		for a := 0; a < q; a++ {
+			P[a*q+(a+1)%q] = 1
+		}
+		T.g = [4][]float64{P, P, P, P}
+	}
 	// Two bonds per site on the square lattice.
 	return T, 2*shiftW + shiftF, nil
+}
+
+// symmetricPoint reports whether every symmetry-breaking coupling is 0.
+func symmetricPoint(cs []flow.Coupling, x []float64) bool {
+	for i, c := range cs {
+		if !c.Symmetric && x[i] != 0 {
+			return false
+		}
+	}
+	return true
 }
 
 // normalize divides T by its largest entry and returns the log of it.
@@ -390,6 +476,9 @@ func hotrgStep(T *tensor4, chi int) *tensor4 {
 	yp := make([]float64, len(y)) // [(u d), (r1 r2)]
 	z := make([]float64, E*E*k)   // [(u d), r′]
 	out := &tensor4{d: [4]int{k, E, k, E}, v: make([]float64, k*E*k*E)}
+	if T.g[0] != nil {
+		out.g = [4][]float64{kronAction(T.g[0], U, D, k), T.g[1], kronAction(T.g[2], U, D, k), T.g[3]}
+	}
 	for lp := 0; lp < k; lp++ {
 		for a := 0; a < D*D; a++ {
 			ulp[a] = U[a*k+lp]
@@ -414,8 +503,14 @@ func hotrgStep(T *tensor4, chi int) *tensor4 {
 // horizontal merge of T: R[l, u, r, d] = T[u, r, d, l].
 func (T *tensor4) rotate() *tensor4 {
 	R := &tensor4{v: make([]float64, len(T.v))}
-	nd := permute(R.v, T.v, T.d[:], []int{3, 0, 1, 2})
+	perm := []int{3, 0, 1, 2}
+	nd := permute(R.v, T.v, T.d[:], perm)
 	copy(R.d[:], nd)
+	if T.g[0] != nil {
+		for a, p := range perm {
+			R.g[a] = T.g[p]
+		}
+	}
 	return R
 }
 
@@ -425,10 +520,14 @@ func (t *TensorRG) step(T *tensor4, n int) *tensor4 {
 	if t.Method == "trg" {
 		return trgStep(T, t.Chi)
 	}
+	var out *tensor4
 	if n%2 == 1 {
-		return hotrgStep(T.rotate(), t.Chi).rotate().rotate().rotate()
+		out = hotrgStep(T.rotate(), t.Chi).rotate().rotate().rotate()
+	} else {
+		out = hotrgStep(T, t.Chi)
 	}
-	return hotrgStep(T, t.Chi)
+	out.symmetrize(t.q)
+	return out
 }
 
 // TensorObserver sees the normalized coarse tensor after each step (n = 0
@@ -563,6 +662,12 @@ func (t *TensorRG) Phase(ctx context.Context, x []float64) flow.Phase {
 	})
 	if err != nil {
 		ph = flow.Phase{Index: -1, Label: "undecided: " + err.Error(), Undecided: true}
+	} else if ph.Undecided && t.CriticalPhase && t.Method == "hotrg" && !math.IsNaN(prev) && math.Abs(prev-math.Round(prev)) >= t.Tol {
+		// Neither ordered nor disordered after every step, X still off
+		// the whole numbers: with the symmetry kept exactly (HOTRG on the
+		// clock model), that is the critical phase.
+		ph.Index, ph.Undecided = 0, false
+		ph.Label = "critical phase (X on a non-integer plateau)"
 	}
 	if t.OnPhase != nil {
 		t.OnPhase(x, ph)
@@ -786,6 +891,11 @@ func (t *TensorRG) Critical(ctx context.Context, path flow.Path, tol float64) ([
 		if err != nil {
 			return nil, err
 		}
+		if strings.HasPrefix(c.Below.Label, "critical phase") || strings.HasPrefix(c.Above.Label, "critical phase") {
+			// An end of a critical phase: a continuous transition of
+			// infinite order (the clock model's), whatever X does at it.
+			kind = flow.Continuous
+		}
 		tc.Kind, tc.Plateau = kind, plateau
 		tc.Crossing.Kind = kind
 		if kind == flow.Continuous {
@@ -832,8 +942,12 @@ func classifyDimensions(dims []float64) (spin, energy float64) {
 
 // Cautions says what the tensor engine gives and what it does not.
 func (t *TensorRG) Cautions() []string {
-	return []string{
+	out := []string{
 		fmt.Sprintf("tensor renormalization truncated to chi = %d: the free energy and critical coupling carry a truncation error that shrinks as chi grows (repeat at a larger chi to see its trend); free energy over 2^%d sites (%d steps), phases decided within %d steps", t.Chi, t.Steps, t.Steps, t.MaxPhaseSteps),
 		"no flow of couplings: eigenvalues and controlling fixed points do not exist here; exponents come from the scaling dimensions of the coarse tensor's transfer matrix",
 	}
+	if t.CriticalPhase && t.Method != "hotrg" {
+		out = append(out, "for the clock model use method=hotrg: only HOTRG here keeps its cyclic symmetry exactly; with trg the truncation breaks it within some twenty steps, and the critical phase between the two transitions is lost")
+	}
+	return out
 }

@@ -433,3 +433,25 @@ func TestTensorPottsFirstOrder(t *testing.T) {
 		t.Errorf("K_c = %.5f (exact %.5f), kind %v", c.Crossing.Value, exact, c.Kind)
 	}
 }
+
+// With HOTRG the clock model keeps its cyclic symmetry exactly (the coarse
+// tensor is projected onto its invariant part every step), and the
+// six-state clock model shows its three phases: ordered at low
+// temperature, a critical phase between T1 ≈ 0.7 and T2 ≈ 0.9, disordered
+// above (J. Tobochnik, PRB 26, 6201 (1982); M. S. S. Challa, D. P. Landau,
+// PRB 33, 437 (1986); from memory). kT/J = 0.72 lies inside both that
+// range and the window chi = 16 resolves (about 0.66 to 0.75).
+func TestTensorClockCriticalPhase(t *testing.T) {
+	c6, _ := NewClock(6)
+	tr := mustTensor(t, c6, "hotrg", 16)
+	x := make([]float64, len(c6.Couplings()))
+	for _, c := range []struct {
+		T    float64
+		want int
+	}{{0.5, 6}, {0.72, 0}, {1.25, 1}} {
+		x[0] = 1 / c.T
+		if ph := tr.Phase(context.Background(), x); ph.Index != c.want {
+			t.Errorf("kT/J = %g: %+v, want index %d", c.T, ph, c.want)
+		}
+	}
+}
