@@ -157,14 +157,17 @@ func tensorSolveCmd(ctx context.Context, id int, t *decimation.TensorRG, sl flow
 		}()
 		// Edges included, so that a symmetric range has a row at 0 (the
 		// zero-field line, where the ordered phases live).
-		const gx, gy = 21, 11
+		gx, gy := 21, 11
+		if t.Method == "hotrg" { // about ten times the cost of a TRG decision
+			gx, gy = 11, 7
+		}
 		xs := make([]float64, gx)
 		ys := make([]float64, gy)
 		for i := range xs {
-			xs[i] = ax.Value(float64(i) / (gx - 1))
+			xs[i] = ax.Value(float64(i) / float64(gx-1))
 		}
 		for j := range ys {
-			ys[j] = ay.Value(float64(j) / (gy - 1))
+			ys[j] = ay.Value(float64(j) / float64(gy-1))
 		}
 		xs, ys = finite(xs), finite(ys)
 		grid := make([][]flow.Phase, gy)
