@@ -122,14 +122,11 @@ func Schemes() []SchemeSpec {
 				if err != nil {
 					return nil, err
 				}
-				keep := v.List("keep")
-				if len(keep) == 0 {
-					keep = []string{"K", "h"}
-					if v.Int("order") == 2 {
-						keep = []string{"K", "L", "M", "h"}
-					}
+				def := []string{"K", "h"}
+				if v.Int("order") == 2 {
+					def = []string{"K", "L", "M", "h"}
 				}
-				v["keep"], v["block"] = keep, bl.Size() // report the resolved defaults
+				keep := resolveKeep(v, bl, def)
 				return NewCumulant(m, bl, ruleFrom(v, bl), v.Int("order"), keep)
 			},
 		},
@@ -153,17 +150,14 @@ func Schemes() []SchemeSpec {
 				if err != nil {
 					return nil, err
 				}
-				keep := v.List("keep")
-				if len(keep) == 0 {
-					keep = []string{"K", "L"}
-					if bl.Lattice == Linear {
-						keep = []string{"K"}
-					}
+				def := []string{"K", "L"}
+				if bl.Lattice == Linear {
+					def = []string{"K"}
 				}
+				keep := resolveKeep(v, bl, def)
 				if v.Int("blocks") == 0 {
 					v["blocks"] = DefaultClusterBlocks(bl.Lattice)
 				}
-				v["keep"], v["block"] = keep, bl.Size() // report the resolved defaults
 				return NewCluster(m, bl, ruleFrom(v, bl), keep,
 					ClusterSpec{Blocks: v.Int("blocks"), Periodic: v.Choice("boundary") == "periodic"})
 			},
@@ -208,6 +202,17 @@ var blockRuleParams = []Param{
 		Help: "block spin: auto (majority in two dimensions, decimation on the chain), majority (ties shared equally among the tied states), kadanoff (weight ∝ exp(2p × sites in the state); Ising: e^{p μ Σs}/2cosh(p Σs); majority as p → ∞), decimation (the block's first site)"},
 	{Name: "p", Kind: Real, Min: 0, MinOpen: true, Max: 1000, Default: "1",
 		Help: "the Kadanoff weight's parameter (rule=kadanoff only)"},
+}
+
+// resolveKeep returns the kept couplings (def when none are given) and
+// records them and the block size for the reports.
+func resolveKeep(v Values, bl *Blocking, def []string) []string {
+	keep := v.List("keep")
+	if len(keep) == 0 {
+		keep = def
+	}
+	v["keep"], v["block"] = keep, bl.Size()
+	return keep
 }
 
 // ruleFrom resolves the rule parameter (auto: majority in two dimensions,

@@ -372,6 +372,11 @@ func runCritical(ctx context.Context, o *options, b *built, along rangeSpec, at 
 		}
 		doc.Sweep = sw
 	}
+	return writeCritical(o, doc, stdout)
+}
+
+// writeCritical writes the critical report in the format asked for.
+func writeCritical(o *options, doc report.CriticalDoc, stdout io.Writer) error {
 	switch {
 	case o.json:
 		return writeJSON(stdout, report.Critical(doc))

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"runtime"
 	"strconv"
 	"strings"
 	"sync"
@@ -116,51 +115,7 @@ func runCriticalTensor(ctx context.Context, o *options, b *built, along rangeSpe
 	for _, c := range tcs {
 		doc.Crossings = append(doc.Crossings, c.Crossing)
 	}
-	switch {
-	case o.json:
-		return writeJSON(stdout, report.Critical(doc))
-	case o.csv:
-		return report.CriticalCSV(stdout, doc)
-	}
-	return report.CriticalText(stdout, doc)
-}
-
-// tensorThermoPoints computes the thermodynamics at each point on all
-// cores, with progress on a terminal.
-func tensorThermoPoints(ctx context.Context, t *decimation.TensorRG, pts [][]float64, metric []int) []report.ThermoPoint {
-	out := make([]report.ThermoPoint, len(pts))
-	work := make(chan int)
-	var wg sync.WaitGroup
-	var mu sync.Mutex
-	done := 0
-	start := time.Now()
-	show := isTerminal(os.Stderr)
-	for w := 0; w < runtime.GOMAXPROCS(0); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for k := range work {
-				out[k] = t.Thermo(ctx, pts[k], metric)
-				mu.Lock()
-				done++
-				if show {
-					fmt.Fprintf(os.Stderr, "\r\033[K%6.1fs  point %d of %d", time.Since(start).Seconds(), done, len(pts))
-					progressShown = true
-				}
-				mu.Unlock()
-			}
-		}()
-	}
-	for k := range pts {
-		if ctx.Err() != nil {
-			break
-		}
-		work <- k
-	}
-	close(work)
-	wg.Wait()
-	clearProgress()
-	return out
+	return writeCritical(o, doc, stdout)
 }
 
 // runThermoTensor computes the thermodynamics along a path or on a grid
@@ -179,7 +134,7 @@ func runThermoTensor(ctx context.Context, o *options, b *built, along, grid, at,
 	if err != nil {
 		return err
 	}
-	rows := tensorThermoPoints(ctx, t, pts, mi)
+	rows := eachPoint(ctx, len(pts), func(k int) report.ThermoPoint { return t.Thermo(ctx, pts[k], mi) })
 	if ctx.Err() != nil {
 		return fmt.Errorf("interrupted: thermodynamics canceled")
 	}

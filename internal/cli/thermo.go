@@ -2,11 +2,14 @@ package cli
 
 import (
 	"context"
+	"fmt"
 	"io"
 	"math"
+	"os"
 	"runtime"
 	"strings"
 	"sync"
+	"time"
 
 	"github.com/spf13/cobra"
 
@@ -227,19 +230,36 @@ func orderParameter(b *built, m0 float64) float64 {
 
 // thermoPoints computes every point, in parallel on all cores.
 func thermoPoints(ctx context.Context, m flow.Map, pts [][]float64, metric []int) []report.ThermoPoint {
-	out := make([]report.ThermoPoint, len(pts))
+	return eachPoint(ctx, len(pts), func(k int) report.ThermoPoint { return flow.Thermo(m, pts[k], metric) })
+}
+
+// eachPoint computes f for every point on all cores, showing progress on a
+// terminal.
+func eachPoint(ctx context.Context, n int, f func(k int) report.ThermoPoint) []report.ThermoPoint {
+	out := make([]report.ThermoPoint, n)
 	work := make(chan int)
 	var wg sync.WaitGroup
+	var mu sync.Mutex
+	done := 0
+	start := time.Now()
+	show := isTerminal(os.Stderr)
 	for w := 0; w < runtime.GOMAXPROCS(0); w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			for k := range work {
-				out[k] = flow.Thermo(m, pts[k], metric)
+				out[k] = f(k)
+				mu.Lock()
+				done++
+				if show && time.Since(start) > time.Second {
+					fmt.Fprintf(os.Stderr, "\r\033[K%6.1fs  point %d of %d", time.Since(start).Seconds(), done, n)
+					progressShown = true
+				}
+				mu.Unlock()
 			}
 		}()
 	}
-	for k := range pts {
+	for k := 0; k < n; k++ {
 		if ctx.Err() != nil {
 			break
 		}
@@ -247,6 +267,7 @@ func thermoPoints(ctx context.Context, m flow.Map, pts [][]float64, metric []int
 	}
 	close(work)
 	wg.Wait()
+	clearProgress()
 	return out
 }
 
